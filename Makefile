@@ -1,0 +1,40 @@
+# bitmend: `make` sets up and runs the main job on the bundled examples; `make test` runs the test suite.
+PYTHON  ?= python3
+VENV    := .venv
+BIN     := $(VENV)/bin
+SPECS   := $(sort $(wildcard examples/*.toml))
+
+.PHONY: all generate firmware test bench check-generated clean
+
+all: generate firmware
+
+$(BIN)/python:
+	$(PYTHON) -m venv $(VENV)
+	$(BIN)/python -m pip install --quiet --upgrade pip
+
+# Stamps: reinstall when the package metadata changes.
+$(VENV)/.installed: pyproject.toml | $(BIN)/python
+	$(BIN)/python -m pip install --quiet -e .
+	touch $@
+
+$(VENV)/.installed-test: pyproject.toml | $(BIN)/python
+	$(BIN)/python -m pip install --quiet -e '.[test,plot]'
+	touch $@ $(VENV)/.installed
+
+generate: $(VENV)/.installed
+	$(BIN)/bitmend generate $(SPECS) -o generated
+
+firmware: $(VENV)/.installed
+	$(MAKE) -C examples/firmware BITMEND=$(CURDIR)/$(BIN)/bitmend run
+
+test: $(VENV)/.installed-test
+	$(BIN)/python -m pytest
+
+bench: $(VENV)/.installed-test
+	$(BIN)/python bench/run.py
+
+check-generated: $(VENV)/.installed
+	$(BIN)/bitmend generate --check $(SPECS) -o generated
+
+clean:
+	rm -rf $(VENV) examples/firmware/build

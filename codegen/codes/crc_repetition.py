@@ -1,0 +1,205 @@
+"""CRC with repetition: the frame is `copies` copies of (data || CRC).
+
+The CRC follows the parametrised model of the published CRC catalogue: width, poly (normal form),
+init, reflect_in, reflect_out, xor_out.  The CRC value is stored in ceil(width/8) bytes, its bits most
+significant first, packed MSB-first and zero-padded at the end (plain big-endian when width is a multiple
+of 8).  Decoding: copies >= 3 votes bitwise (a tie keeps copy 0's bit) and checks the CRC; when the voted
+block fails, or copies <= 2, the first copy whose CRC passes is taken.
+"""
+from __future__ import annotations
+
+from ..spec import Spec
+from .base import ERR_LENGTH, ERR_UNCORRECTABLE, CodeModel, Properties, ctype_bytes, ctype_for
+
+MAX_COUNT = 32767          # corrected-bit counts saturate here: the smallest INT_MAX C allows
+
+
+def reflect(value: int, width: int) -> int:
+    """Reverse the low `width` bits of value."""
+    out = 0
+    for _ in range(width):
+        out = (out << 1) | (value & 1)
+        value >>= 1
+    return out
+
+
+class Crc:
+    """One parametrised CRC: the bit-serial definition, plus the register tables the C uses."""
+
+    def __init__(self, width: int, poly: int, init: int, reflect_in: bool, reflect_out: bool, xor_out: int):
+        self.width, self.poly, self.init = width, poly, init
+        self.reflect_in, self.reflect_out, self.xor_out = reflect_in, reflect_out, xor_out
+        self.mask = (1 << width) - 1
+        self.ctype = ctype_for(self.mask)
+        self.reg_bits = ctype_bytes(self.ctype) * 8      # the C register is the whole P_crc_t
+        self.nbytes = (width + 7) // 8
+
+    def compute(self, data: bytes) -> int:
+        """The CRC by its definition: one bit at a time, most significant register bit out first."""
+        reg = self.init
+        top = 1 << (self.width - 1)
+        for byte in data:
+            if self.reflect_in:
+                byte = reflect(byte, 8)
+            for i in range(7, -1, -1):
+                feedback = bool(reg & top) ^ ((byte >> i) & 1)
+                reg = (reg << 1) & self.mask
+                if feedback:
+                    reg ^= self.poly
+        if self.reflect_out:
+            reg = reflect(reg, self.width)
+        return reg ^ self.xor_out
+
+    def to_bytes(self, value: int) -> bytes:
+        return (value << (8 * self.nbytes - self.width)).to_bytes(self.nbytes, "big")
+
+    # -- the C register: reflected (shifts right) when reflect_in, else left-aligned in reg_bits ---------
+    @property
+    def shift(self) -> int:
+        """How far the CRC sits above bit 0 in a left-aligned (non-reflected) register."""
+        return 0 if self.reflect_in else self.reg_bits - self.width
+
+    @property
+    def reg_poly(self) -> int:
+        return reflect(self.poly, self.width) if self.reflect_in else self.poly << self.shift
+
+    @property
+    def reg_init(self) -> int:
+        return reflect(self.init, self.width) if self.reflect_in else self.init << self.shift
+
+    @property
+    def final_reflect(self) -> bool:
+        """Whether the register's CRC must be bit-reversed on output (reflect_in != reflect_out)."""
+        return self.reflect_in != self.reflect_out
+
+    def table(self, index_bits: int) -> list[int]:
+        """Register update for each index of `index_bits` bits (8: byte table, 4: nibble table)."""
+        out = []
+        reg_mask = (1 << self.reg_bits) - 1
+        top = 1 << (self.reg_bits - 1)
+        for i in range(1 << index_bits):
+            if self.reflect_in:
+                reg = i
+                for _ in range(index_bits):
+                    reg = (reg >> 1) ^ self.reg_poly if reg & 1 else reg >> 1
+            else:
+                reg = i << (self.reg_bits - index_bits)
+                for _ in range(index_bits):
+                    reg = ((reg << 1) ^ self.reg_poly if reg & top else reg << 1) & reg_mask
+            out.append(reg)
+        return out
+
+
+class CrcRepetition(CodeModel):
+    template = "crc_repetition"
+    call_depth = 5                 # decode > block_ok > pick > vote > get
+
+    def __init__(self, spec: Spec):
+        super().__init__(spec)
+        c = spec.table("crc")
+        self.crc = Crc(c.width, c.poly, c.init, c.reflect_in, c.reflect_out, c.xor_out)
+        rep = spec.table("repetition")
+        self.copies = rep.copies
+        self.data_bytes = rep.data_bytes
+
+    @property
+    def correctable(self) -> int:
+        """Bit errors always corrected.  With e <= ceil(copies/2) errors either every bit's vote is right,
+        or all errors sit in one bit position; then every damaged copy carries exactly one flipped bit,
+        which the CRC always detects (its polynomial has the x^width and x^0 terms), and a clean copy is
+        left for the per-copy fallback."""
+        return 0 if self.copies == 1 else (self.copies + 1) // 2
+
+    @property
+    def properties(self) -> Properties:
+        block = self.data_bytes + self.crc.nbytes
+        table = {"fast": 256, "small": 16, "tiny": 0}[self.spec.profile] * ctype_bytes(self.crc.ctype)
+        return Properties(n=self.copies * block * 8, k=self.data_bytes * 8, t=self.correctable,
+                          d=2 * self.copies, unit_bits=1, data_bytes=self.data_bytes,
+                          parity_bytes=self.parity_len(self.data_bytes), table_bytes=table)
+
+    def data_lengths(self) -> range:
+        return range(1, self.data_bytes + 1)
+
+    def parity_len(self, data_len: int) -> int:
+        return self.crc.nbytes + (self.copies - 1) * (data_len + self.crc.nbytes)
+
+    # -- reference ------------------------------------------------------------------------------------
+    def encode(self, data: bytes) -> bytes:
+        if len(data) not in self.data_lengths():
+            raise ValueError(f"data length {len(data)} not in 1..{self.data_bytes}")
+        crc = self.crc.to_bytes(self.crc.compute(data))
+        return crc + (data + crc) * (self.copies - 1)
+
+    def _blocks(self, data: bytes, parity: bytes) -> list[bytes]:
+        size = len(data) + self.crc.nbytes
+        first = bytes(data) + bytes(parity[:self.crc.nbytes])
+        rest = parity[self.crc.nbytes:]
+        return [first] + [bytes(rest[i * size:(i + 1) * size]) for i in range(self.copies - 1)]
+
+    def _block_ok(self, block: bytes, data_len: int) -> bool:
+        return self.crc.to_bytes(self.crc.compute(block[:data_len])) == block[data_len:]
+
+    def _vote(self, blocks: list[bytes]) -> bytes:
+        out = bytearray(len(blocks[0]))
+        for j in range(len(out)):
+            for bit in range(8):
+                mask = 1 << bit
+                ones = sum(1 for b in blocks if b[j] & mask)
+                if 2 * ones > self.copies or (2 * ones == self.copies and blocks[0][j] & mask):
+                    out[j] |= mask
+        return bytes(out)
+
+    def decode(self, data: bytes, parity: bytes) -> tuple[int, bytes, bytes]:
+        data, parity = bytes(data), bytes(parity)
+        if not self.length_ok(data, parity):
+            return ERR_LENGTH, data, parity
+        n = len(data)
+        blocks = self._blocks(data, parity)
+        chosen = None
+        if self.copies >= 3:
+            voted = self._vote(blocks)
+            if self._block_ok(voted, n):
+                chosen = voted
+        if chosen is None:
+            chosen = next((b for b in blocks if self._block_ok(b, n)), None)
+        if chosen is None:
+            return ERR_UNCORRECTABLE, data, parity
+        changed = sum(bin(x ^ y).count("1") for b in blocks for x, y in zip(b, chosen))
+        used = self.parity_len(n)
+        new_parity = chosen[n:] + chosen * (self.copies - 1) + parity[used:]
+        return min(changed, MAX_COUNT), chosen[:n], new_parity
+
+    def check(self, data: bytes, parity: bytes) -> int:
+        if not self.length_ok(data, parity):
+            return ERR_LENGTH
+        blocks = self._blocks(data, parity)
+        clean = self._block_ok(blocks[0], len(data)) and all(b == blocks[0] for b in blocks)
+        return 0 if clean else 1
+
+    # -- rendering ------------------------------------------------------------------------------------
+    def family_context(self) -> dict:
+        crc = self.crc
+        return {
+            "crc_ctype": crc.ctype,
+            "reg_bits": crc.reg_bits,
+            # type a register is widened to before a left shift: never a (possibly 16-bit) signed int
+            "shift_type": "unsigned" if crc.reg_bits <= 16 else crc.ctype,
+            "width": crc.width,
+            "crc_bytes": crc.nbytes,
+            "pad_bits": 8 * crc.nbytes - crc.width,
+            "reflect_in": crc.reflect_in,
+            "reflect_out": crc.reflect_out,
+            "poly": crc.poly,
+            "init": crc.init,
+            "xor_out": crc.xor_out,
+            "reg_poly": crc.reg_poly,
+            "reg_init": crc.reg_init,
+            "reg_top": 1 << (crc.reg_bits - 1),
+            "shift": crc.shift,
+            "final_reflect": crc.final_reflect,
+            "copies": self.copies,
+            "max_count": MAX_COUNT,
+            "table_byte": crc.table(8) if self.spec.profile == "fast" else [],
+            "table_nibble": crc.table(4) if self.spec.profile == "small" else [],
+        }

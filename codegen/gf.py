@@ -1,0 +1,154 @@
+"""GF(2^m) arithmetic and polynomial helpers shared by the BCH and Reed-Solomon models.
+
+Field elements are ints in the polynomial (conventional) basis: bit i is the coefficient of alpha^i.
+Binary polynomials (over GF(2)) are ints too: bit i is the coefficient of x^i.
+Polynomials over GF(2^m) are lists of field elements, highest degree first.
+"""
+from __future__ import annotations
+
+from functools import cached_property
+
+import numpy as np
+
+# Minimum-weight primitive polynomials, one per degree, as listed in the usual textbook tables
+# (Lin & Costello, Error Control Coding, table of primitive polynomials; from memory, each one is
+# checked primitive by tests/test_gf.py against galois).
+DEFAULT_PRIMITIVE = {
+    3: 0b1011,                # x^3 + x + 1
+    4: 0b10011,               # x^4 + x + 1
+    5: 0b100101,              # x^5 + x^2 + 1
+    6: 0b1000011,             # x^6 + x + 1
+    7: 0b10001001,            # x^7 + x^3 + 1
+    8: 0x11D,                 # x^8 + x^4 + x^3 + x^2 + 1
+    9: 0x211,                 # x^9 + x^4 + 1
+    10: 0x409,                # x^10 + x^3 + 1
+    11: 0x805,                # x^11 + x^2 + 1
+    12: 0x1053,               # x^12 + x^6 + x^4 + x + 1
+    13: 0x201B,               # x^13 + x^4 + x^3 + x + 1
+    14: 0x4443,               # x^14 + x^10 + x^6 + x + 1
+    15: 0x8003,               # x^15 + x + 1
+    16: 0x1100B,              # x^16 + x^12 + x^3 + x + 1
+}
+
+
+def degree(p: int) -> int:
+    """Degree of a binary polynomial (-1 for the zero polynomial)."""
+    return p.bit_length() - 1
+
+
+def is_primitive(poly: int, m: int) -> bool:
+    """True when the binary polynomial `poly` of degree m is primitive: x has order 2^m - 1 modulo it."""
+    if degree(poly) != m or poly & 1 == 0:
+        return False
+    order = (1 << m) - 1
+    top = 1 << m
+    x = 1
+    for i in range(1, order + 1):
+        x <<= 1
+        if x & top:
+            x ^= poly
+        if x == 1:
+            return i == order
+    return False
+
+
+def bin_mul(a: int, b: int) -> int:
+    """Product of two binary polynomials."""
+    out = 0
+    while b:
+        if b & 1:
+            out ^= a
+        a <<= 1
+        b >>= 1
+    return out
+
+
+def bin_mod(a: int, g: int) -> int:
+    """Remainder of binary polynomial a modulo g."""
+    dg = degree(g)
+    while degree(a) >= dg:
+        a ^= g << (degree(a) - dg)
+    return a
+
+
+def cyclotomic_coset(i: int, m: int) -> list[int]:
+    """The exponents {i, 2i, 4i, ...} modulo 2^m - 1, in generation order."""
+    order = (1 << m) - 1
+    coset, j = [], i % order
+    while j not in coset:
+        coset.append(j)
+        j = (2 * j) % order
+    return coset
+
+
+class Field:
+    """GF(2^m) built from a primitive polynomial, with numpy exp/log tables."""
+
+    def __init__(self, m: int, poly: int):
+        if not is_primitive(poly, m):
+            raise ValueError(f"{poly:#x} is not a primitive polynomial of degree {m}")
+        self.m = m
+        self.poly = poly
+        self.order = (1 << m) - 1          # multiplicative group order
+        exp = np.zeros(2 * self.order, dtype=np.int64)
+        log = np.zeros(self.order + 1, dtype=np.int64)
+        x = 1
+        for i in range(self.order):
+            exp[i] = x
+            log[x] = i
+            x <<= 1
+            if x >> m:
+                x ^= poly
+        exp[self.order:] = exp[:self.order]
+        self.exp = exp                      # exp[i] = alpha^i, valid for 0 <= i < 2*order
+        self.log = log                      # log[x] for x != 0; log[0] is meaningless (0)
+
+    @cached_property
+    def exp_list(self) -> list[int]:
+        return self.exp[:self.order].tolist()
+
+    @cached_property
+    def log_list(self) -> list[int]:
+        return self.log.tolist()
+
+    def alpha_pow(self, i: int) -> int:
+        return int(self.exp[i % self.order])
+
+    def mul(self, a: int, b: int) -> int:
+        if a == 0 or b == 0:
+            return 0
+        return int(self.exp[self.log[a] + self.log[b]])
+
+    def div(self, a: int, b: int) -> int:
+        if b == 0:
+            raise ZeroDivisionError("division by zero in GF(2^m)")
+        if a == 0:
+            return 0
+        return int(self.exp[(self.log[a] - self.log[b]) % self.order])
+
+    def inv(self, a: int) -> int:
+        return self.div(1, a)
+
+    def poly_eval(self, coeffs: list[int], x: int) -> int:
+        """Evaluate a polynomial over the field (highest degree first) at x by Horner's rule."""
+        acc = 0
+        for c in coeffs:
+            acc = self.mul(acc, x) ^ c
+        return acc
+
+    def poly_mul(self, a: list[int], b: list[int]) -> list[int]:
+        out = [0] * (len(a) + len(b) - 1)
+        for i, ca in enumerate(a):
+            if ca:
+                for j, cb in enumerate(b):
+                    out[i + j] ^= self.mul(ca, cb)
+        return out
+
+    def minimal_polynomial(self, i: int) -> int:
+        """Minimal polynomial over GF(2) of alpha^i, as a binary polynomial."""
+        poly = [1]
+        for j in cyclotomic_coset(i, self.m):
+            poly = self.poly_mul(poly, [1, self.alpha_pow(j)])
+        if any(c not in (0, 1) for c in poly):     # cannot happen for a true conjugacy class
+            raise ArithmeticError("minimal polynomial has non-binary coefficients")
+        return int("".join(str(c) for c in poly), 2)

@@ -1,0 +1,212 @@
+"""Bit-exact campaigns: the compiled C against the Python model (DESIGN.md section 6).
+
+Each case encodes a data block with both, compares the parity, flips a set of error units, then compares
+decode's return value, data and parity, and check's return value.  The C runs on guarded buffers, so a
+write outside them is a failure too.
+"""
+from __future__ import annotations
+
+import itertools
+import math
+import os
+import sys
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from . import emit, harness
+from .codes import build
+from .codes.base import CodeModel
+from .spec import Spec
+
+MAX_REPORTED = 10          # mismatches described in full per report
+
+
+@dataclass
+class Case:
+    kind: str
+    data: bytes
+    errors: tuple[tuple[int, int], ...]   # (bit offset in data || parity, XOR value of unit_bits bits)
+
+
+@dataclass
+class Report:
+    name: str
+    family: str
+    profile: str
+    properties: dict
+    cases: dict = field(default_factory=dict)        # kind -> count
+    failures: dict = field(default_factory=dict)     # kind -> count
+    details: list = field(default_factory=list)
+
+    @property
+    def ok(self) -> bool:
+        return not any(self.failures.values())
+
+    def add(self, kind: str, problem: str | None) -> None:
+        self.cases[kind] = self.cases.get(kind, 0) + 1
+        self.failures.setdefault(kind, 0)
+        if problem:
+            self.failures[kind] += 1
+            if len(self.details) < MAX_REPORTED:
+                self.details.append(f"{kind}: {problem}")
+
+    def table(self) -> str:
+        p = self.properties
+        lines = [f"{self.name} ({self.family}, profile {self.profile}): n={p['n']} k={p['k']} t={p['t']}",
+                 f"  {'kind':<22}{'cases':>8}{'mismatches':>12}"]
+        for kind, count in self.cases.items():
+            lines.append(f"  {kind:<22}{count:>8}{self.failures[kind]:>12}")
+        total, bad = sum(self.cases.values()), sum(self.failures.values())
+        lines.append(f"  {'total':<22}{total:>8}{bad:>12}   {'OK' if self.ok else 'MISMATCH'}")
+        lines.extend(f"  ! {d}" for d in self.details)
+        return "\n".join(lines)
+
+    def as_dict(self) -> dict:
+        return {"name": self.name, "family": self.family, "profile": self.profile, "ok": self.ok,
+                "properties": self.properties, "cases": self.cases, "mismatches": self.failures,
+                "details": self.details}
+
+
+def apply_errors(model: CodeModel, data: bytes, parity: bytes, errors) -> tuple[bytes, bytes]:
+    """XOR each error value (unit_bits wide, MSB at its bit offset) into data || parity."""
+    frame = bytearray(data + parity)
+    width = model.properties.unit_bits
+    for offset, value in errors:
+        for i in range(width):
+            if value >> (width - 1 - i) & 1:
+                bit = offset + i
+                frame[bit // 8] ^= 0x80 >> (bit % 8)
+    return bytes(frame[:len(data)]), bytes(frame[len(data):])
+
+
+def compare(model: CodeModel, module: harness.Module, case: Case) -> str | None:
+    """None when C and model agree on every output for this case, else what differs."""
+    where = f"data_len={len(case.data)} errors={list(case.errors)[:8]}"
+    plen = model.parity_len(len(case.data))
+    ref_parity = model.encode(case.data)
+    rc, parity = module.encode(case.data, plen)
+    if rc != 0 or parity != ref_parity:
+        return f"encode differs (rc {rc}) {where}"
+    rd, rp = apply_errors(model, case.data, parity, case.errors)
+    ref = model.decode(rd, rp)
+    got = module.decode(rd, rp)
+    if got != ref:
+        what = [n for n, a, b in zip(("status", "data", "parity"), got, ref) if a != b]
+        return f"decode {', '.join(what)} differ (C {got[0]}, model {ref[0]}) {where}"
+    if module.check(rd, rp) != model.check(rd, rp):
+        return f"check differs {where}"
+    return None
+
+
+class _Cases:
+    """Builds the case list of DESIGN.md section 6 for one model."""
+
+    def __init__(self, model: CodeModel, rng: np.random.Generator, budget: int):
+        self.model, self.rng, self.budget = model, rng, budget
+        self.p = model.properties
+
+    def data(self, n: int, pattern: str = "random") -> bytes:
+        if pattern == "zeros":
+            return bytes(n)
+        if pattern == "ones":
+            return b"\xff" * n
+        return self.rng.integers(0, 256, n, dtype=np.uint8).tobytes()
+
+    def value(self) -> int:
+        return 1 if self.p.unit_bits == 1 else int(self.rng.integers(1, 1 << self.p.unit_bits))
+
+    def _errors(self, units: list[int], picks) -> tuple:
+        return tuple((units[i], self.value()) for i in sorted(picks))
+
+    def weight(self, kind: str, n: int, w: int, units: list[int] | None = None):
+        """Every pattern of w units when affordable, else `budget` random ones."""
+        units = self.model.error_units(n) if units is None else units
+        if w > len(units):
+            return
+        if math.comb(len(units), w) <= self.budget:
+            for picks in itertools.combinations(range(len(units)), w):
+                yield Case(kind, self.data(n), self._errors(units, picks))
+        else:
+            for _ in range(self.budget):
+                picks = self.rng.choice(len(units), w, replace=False)
+                yield Case(kind, self.data(n), self._errors(units, picks))
+
+    def lengths(self) -> list[int]:
+        lens = list(self.model.data_lengths())
+        if len(lens) <= 24:
+            return lens
+        sample = self.rng.choice(lens[2:-2], 20, replace=False).tolist()
+        return sorted(set(lens[:2] + lens[-2:] + sample))
+
+    def all(self):
+        t = self.p.t
+        n = self.p.data_bytes
+        units = self.model.error_units(n)
+        for length in self.lengths():
+            for pattern in ("zeros", "ones", "random"):
+                yield Case("clean", self.data(length, pattern), ())
+            lu = self.model.error_units(length)
+            for w in range(1, t + 4):
+                if w <= len(lu):
+                    picks = self.rng.choice(len(lu), w, replace=False)
+                    yield Case("every data_len", self.data(length), self._errors(lu, picks))
+        for w in range(1, t + 1):
+            yield from self.weight(f"weight {w}", n, w)
+        for pattern in ("zeros", "ones"):
+            for w in range(1, t + 1):
+                picks = self.rng.choice(len(units), w, replace=False)
+                yield Case(f"{pattern} data", self.data(n, pattern), self._errors(units, picks))
+        parity_units = [u for u in units if u >= 8 * n]
+        for w in range(1, t + 1):
+            yield from self.weight("parity only", n, w, parity_units)
+        ends = [(units[0],), (units[-1],), (units[0], units[-1])]
+        for offsets in ends:
+            yield Case("first/last unit", self.data(n), tuple((o, self.value()) for o in offsets))
+        for length in range(2, max(t, 1) + 4):
+            for _ in range(min(self.budget, 200)):
+                start = int(self.rng.integers(0, len(units) - length + 1))
+                yield Case("bursts", self.data(n), tuple((u, self.value()) for u in units[start:start + length]))
+        for w in range(t + 1, t + 4):
+            for _ in range(self.budget):
+                if w > len(units):
+                    break
+                picks = self.rng.choice(len(units), w, replace=False)
+                yield Case(f"weight {w} (beyond t)", self.data(n), self._errors(units, picks))
+
+
+def campaign(model: CodeModel, module: harness.Module, seed: int = 1, budget: int = 2000,
+             progress: bool | None = None) -> Report:
+    """Run every case kind against one compiled module."""
+    report = Report(model.spec.name, model.spec.family, model.spec.profile, model.properties.as_dict())
+    show = _interactive() if progress is None else progress
+    cases = _Cases(model, np.random.default_rng(seed), budget)
+    for i, case in enumerate(cases.all()):
+        try:
+            problem = compare(model, module, case)
+        except harness.GuardError as err:
+            problem = f"{err} data_len={len(case.data)} errors={list(case.errors)[:8]}"
+        report.add(case.kind, problem)
+        if show and i % 200 == 0:
+            print(f"\r  {model.spec.name} [{model.spec.profile}] {case.kind:<24} {i:>8} cases",
+                  end="", file=sys.stderr, flush=True)
+    if show:
+        print("\r" + " " * 72 + "\r", end="", file=sys.stderr, flush=True)
+    return report
+
+
+def module_for(model: CodeModel, cc: str | None = None) -> harness.Module:
+    return harness.build(model.spec.name, emit.render(model), cc)
+
+
+def run_specs(specs: list[Spec], seed: int = 1, budget: int = 2000, profiles=None) -> list[Report]:
+    reports = []
+    for spec in specs:
+        for profile in profiles or [spec.profile]:
+            model = build(spec.with_profile(profile))
+            reports.append(campaign(model, module_for(model), seed, budget))
+    return reports
+
+
+def _interactive() -> bool:
+    return sys.stderr.isatty() and not os.environ.get("CI")
