@@ -1,0 +1,35 @@
+"""Shared fixtures: specs from TOML text, models, and compiled C modules (each compiled once per run)."""
+from __future__ import annotations
+
+import hashlib
+import tomllib
+from pathlib import Path
+
+import pytest
+
+from codegen import emit, harness, spec as specmod
+from codegen.codes import build
+
+ROOT = Path(__file__).resolve().parent.parent
+EXAMPLES = sorted((ROOT / "examples").glob("*.toml"))
+
+
+def make_spec(toml_text: str, filename: str = "test.toml", profile: str | None = None) -> specmod.Spec:
+    """A validated Spec from TOML text (raises SpecError like a file would)."""
+    raw = toml_text.encode()
+    spec = specmod.parse(tomllib.loads(toml_text), filename, hashlib.sha256(raw).hexdigest())
+    return spec.with_profile(profile) if profile else spec
+
+
+def make_model(toml_text: str, profile: str | None = None):
+    return build(make_spec(toml_text, profile=profile))
+
+
+def compile_model(model) -> harness.Module:
+    """The model's emitted C, strict-compiled and loaded (cached by content hash)."""
+    return harness.build(model.spec.name, emit.render(model))
+
+
+@pytest.fixture(scope="session")
+def examples() -> list[Path]:
+    return EXAMPLES
