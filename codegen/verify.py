@@ -163,7 +163,7 @@ class _Cases:
         ends = [(units[0],), (units[-1],), (units[0], units[-1])]
         for offsets in ends:
             yield Case("first/last unit", self.data(n), tuple((o, self.value()) for o in offsets))
-        for length in range(2, max(t, 1) + 4):
+        for length in range(2, min(max(t, 1) + 4, len(units) + 1)):
             for _ in range(min(self.budget, 200)):
                 start = int(self.rng.integers(0, len(units) - length + 1))
                 yield Case("bursts", self.data(n), tuple((u, self.value()) for u in units[start:start + length]))
