@@ -1,0 +1,166 @@
+/*
+ * A host-side stand-in for firmware that uses the bitmend modules: it encodes, damages the stored or
+ * received bytes the way a flash part or a radio link would, decodes, and prints what happened.
+ * Static buffers only, as on a device.  Exit status 0 when every outcome is the expected one.
+ */
+#include <stdio.h>
+#include <string.h>
+
+#include "boot_header.h"
+#include "cal_word.h"
+#include "mem_word.h"
+#include "soil_probe.h"
+
+static int unexpected;
+
+static void outcome(const char *what, int rc, int want, int restored)
+{
+    int ok = rc == want && restored;
+
+    printf("  %-58s rc %3d  %s\n", what, rc, ok ? "as expected" : "UNEXPECTED");
+    if (!ok) {
+        unexpected++;
+    }
+}
+
+static void flip(uint8_t *buf, unsigned bit)
+{
+    buf[bit / 8u] = (uint8_t)(buf[bit / 8u] ^ (0x80u >> (bit % 8u)));
+}
+
+static void fill(uint8_t *buf, size_t len, unsigned seed)
+{
+    size_t i;
+
+    for (i = 0; i < len; i++) {
+        seed = seed * 1103515245u + 12345u;
+        buf[i] = (uint8_t)(seed >> 16);
+    }
+}
+
+static int ones(const uint8_t *buf, size_t len)
+{
+    int n = 0;
+    size_t i;
+    unsigned b;
+
+    for (i = 0; i < len; i++) {
+        for (b = buf[i]; b != 0u; b &= b - 1u) {
+            n++;
+        }
+    }
+    return n;
+}
+
+/* Radio packet: a 24-byte soil reading sent three times, each copy with its CRC-16. */
+static void soil_probe_demo(void)
+{
+    static uint8_t reading[SOIL_PROBE_DATA_BYTES], sent[SOIL_PROBE_DATA_BYTES];
+    static uint8_t parity[SOIL_PROBE_PARITY_BYTES], sent_parity[SOIL_PROBE_PARITY_BYTES];
+    int rc;
+
+    puts("soil_probe: CRC-16 x 3 over a 24-byte radio reading");
+    fill(sent, sizeof sent, 7u);
+    soil_probe_encode(sent, sizeof sent, sent_parity);
+
+    memcpy(reading, sent, sizeof sent);
+    memcpy(parity, sent_parity, sizeof parity);
+    memset(&parity[SOIL_PROBE_CRC_BYTES], 0x00, SOIL_PROBE_DATA_BYTES);          /* copy 1 destroyed */
+    rc = soil_probe_decode(reading, sizeof reading, parity);
+    outcome("copy 1 zeroed by a burst: every lost 1 bit restored", rc, ones(sent, SOIL_PROBE_DATA_BYTES),
+            memcmp(reading, sent, sizeof sent) == 0 && memcmp(parity, sent_parity, sizeof parity) == 0);
+
+    memcpy(parity, sent_parity, sizeof parity);
+    flip(reading, 37u);                                                          /* same bit, copies 0 and 2 */
+    flip(&parity[SOIL_PROBE_CRC_BYTES + SOIL_PROBE_DATA_BYTES + SOIL_PROBE_CRC_BYTES], 37u);
+    rc = soil_probe_decode(reading, sizeof reading, parity);
+    outcome("bit 37 hit in two of three copies (vote wrong, copy 1 used)", rc, 2,
+            memcmp(reading, sent, sizeof sent) == 0 && memcmp(parity, sent_parity, sizeof parity) == 0);
+
+    flip(reading, 3u);
+    flip(&parity[SOIL_PROBE_CRC_BYTES], 3u);
+    flip(&parity[SOIL_PROBE_CRC_BYTES + SOIL_PROBE_DATA_BYTES + SOIL_PROBE_CRC_BYTES], 3u);
+    memcpy(sent_parity, parity, sizeof parity);                                  /* remember the damage */
+    memcpy(sent, reading, sizeof sent);
+    rc = soil_probe_decode(reading, sizeof reading, parity);
+    outcome("bit 3 hit in every copy: uncorrectable, buffers untouched", rc, SOIL_PROBE_ERR_UNCORRECTABLE,
+            memcmp(reading, sent, sizeof sent) == 0 && memcmp(parity, sent_parity, sizeof parity) == 0);
+}
+
+/* EEPROM: 32-bit calibration words with SECDED. */
+static void cal_word_demo(void)
+{
+    static const uint8_t gain[CAL_WORD_DATA_BYTES] = {0x3F, 0x9D, 0x70, 0xA4};  /* a float, big-endian */
+    uint8_t word[CAL_WORD_DATA_BYTES];
+    uint8_t check[CAL_WORD_PARITY_BYTES], stored[CAL_WORD_PARITY_BYTES];
+    int rc;
+
+    puts("cal_word: SECDED (39,32) over EEPROM calibration words");
+    cal_word_encode(gain, sizeof gain, stored);
+    memcpy(word, gain, sizeof word);
+    memcpy(check, stored, sizeof check);
+    flip(word, 12u);
+    rc = cal_word_decode(word, sizeof word, check);
+    outcome("one cell flipped: corrected", rc, 1, memcmp(word, gain, sizeof word) == 0);
+
+    flip(word, 12u);
+    flip(word, 30u);
+    memcpy(check, stored, sizeof check);
+    rc = cal_word_decode(word, sizeof word, check);
+    flip(word, 12u);
+    flip(word, 30u);
+    outcome("two cells flipped: detected, word left as read", rc, CAL_WORD_ERR_UNCORRECTABLE,
+            memcmp(word, gain, sizeof word) == 0);
+}
+
+/* SRAM: 64-bit words with SECDED (72,64); one bit of the check byte fails. */
+static void mem_word_demo(void)
+{
+    uint8_t word[MEM_WORD_DATA_BYTES], sent[MEM_WORD_DATA_BYTES];
+    uint8_t check[MEM_WORD_PARITY_BYTES], stored[MEM_WORD_PARITY_BYTES];
+    int rc;
+
+    puts("mem_word: SECDED (72,64) over SRAM words");
+    fill(sent, sizeof sent, 99u);
+    mem_word_encode(sent, sizeof sent, stored);
+    memcpy(word, sent, sizeof word);
+    memcpy(check, stored, sizeof check);
+    flip(check, 5u);
+    rc = mem_word_decode(word, sizeof word, check);
+    outcome("check bit 5 flipped: corrected", rc, 1,
+            memcmp(word, sent, sizeof word) == 0 && memcmp(check, stored, sizeof check) == 0);
+    outcome("wrong length rejected", mem_word_decode(word, sizeof word - 1u, check), MEM_WORD_ERR_LENGTH, 1);
+}
+
+/* Boot image header: CRC-32 detection only, and the CRC streamed while the header arrives. */
+static void boot_header_demo(void)
+{
+    static uint8_t header[BOOT_HEADER_DATA_BYTES];
+    uint8_t crc[BOOT_HEADER_PARITY_BYTES];
+    boot_header_crc_t state;
+    int rc;
+
+    puts("boot_header: CRC-32 over a 64-byte image header");
+    fill(header, sizeof header, 2024u);
+    boot_header_encode(header, sizeof header, crc);
+    state = boot_header_crc_init();
+    state = boot_header_crc_update(state, header, 10u);
+    state = boot_header_crc_update(state, &header[10], sizeof header - 10u);
+    outcome("streamed CRC equals one-shot CRC", boot_header_crc_final(state) == boot_header_crc(header, sizeof header), 1, 1);
+    outcome("intact header passes", boot_header_check(header, sizeof header, crc), 0, 1);
+    flip(header, 300u);
+    rc = boot_header_decode(header, sizeof header, crc);
+    outcome("one flipped bit: detected (no correction with one copy)", rc, BOOT_HEADER_ERR_UNCORRECTABLE, 1);
+    printf("  CRC-32 of \"123456789\": 0x%08lX\n",
+           (unsigned long)boot_header_crc((const uint8_t *)"123456789", 9u));
+}
+
+int main(void)
+{
+    soil_probe_demo();
+    cal_word_demo();
+    mem_word_demo();
+    boot_header_demo();
+    printf("%s\n", unexpected == 0 ? "all outcomes as expected" : "SOME OUTCOMES UNEXPECTED");
+    return unexpected == 0 ? 0 : 1;
+}
