@@ -61,6 +61,53 @@ def cmd_verify(args) -> int:
     return EXIT_OK if all(r.ok for r in reports) else EXIT_FAILED
 
 
+def cmd_analyze(args) -> int:
+    from . import analysis
+    spec = specmod.load(args.spec)
+    result = analysis.run(spec, args.flip_prob, trials=args.simulate, seed=args.seed, plot_file=args.plot)
+    print(analysis.table(result))
+    if args.plot:
+        print(f"wrote {args.plot}")
+    if args.json:
+        emit.write_atomic(Path(args.json), json.dumps(result, indent=2) + "\n")
+    return EXIT_OK
+
+
+def cmd_recommend(args) -> int:
+    from . import recommend
+    outcome = recommend.search(args.data_bytes, args.flip_prob, args.target, args.families, args.profile)
+    print(recommend.table(outcome))
+    if args.json:
+        emit.write_atomic(Path(args.json), json.dumps(outcome.as_dict(), indent=2) + "\n")
+    if args.write and outcome.best is not None:
+        path = Path(args.write) / f"{outcome.best.name}.toml"
+        emit.write_atomic(path, recommend.spec_text(outcome.best, outcome, args.profile))
+        print(f"wrote {path}")
+    return EXIT_OK if outcome.candidates else EXIT_FAILED
+
+
+def _check_args(args) -> str | None:
+    """The first bad option value, as a message naming the option; None when all are fine."""
+    if getattr(args, "budget", 1) < 1:
+        return "--budget must be at least 1"
+    f = getattr(args, "flip_prob", None)
+    if f is not None and not 0.0 < f < 0.5:
+        return f"--flip-prob must be in (0, 0.5) (got {f:g})"
+    target = getattr(args, "target", None)
+    if target is not None and not 0.0 < target < 1.0:
+        return f"--target must be in (0, 1) (got {target:g})"
+    data_bytes = getattr(args, "data_bytes", None)
+    if data_bytes is not None and data_bytes <= 0:
+        return f"--data-bytes must be at least 1 (got {data_bytes})"
+    trials = getattr(args, "simulate", None)
+    if trials is not None and trials < 1:
+        return f"--simulate must be at least 1 (got {trials})"
+    plot = getattr(args, "plot", None)
+    if plot is not None and Path(plot).suffix.lower() not in (".png", ".svg"):
+        return f"--plot must name a .png or .svg file (got {plot})"
+    return None
+
+
 def parser() -> argparse.ArgumentParser:
     p = _Parser(prog="bitmend", description="Error-correcting codes for firmware: TOML spec in, C99 out.")
     p.add_argument("--version", action="version", version=f"bitmend {__version__}")
@@ -82,13 +129,42 @@ def parser() -> argparse.ArgumentParser:
                    help="profile(s) to verify (default: the spec's own); repeatable")
     v.add_argument("--json", metavar="FILE", help="also write the results as JSON")
     v.set_defaults(func=cmd_verify)
+
+    a = sub.add_parser("analyze", help="what the code buys on a binary symmetric channel")
+    a.add_argument("spec", metavar="SPEC")
+    a.add_argument("--flip-prob", type=float, required=True, metavar="F",
+                   help="probability that the channel flips a bit, in (0, 0.5)")
+    a.add_argument("--simulate", type=int, metavar="N",
+                   help="also run N random channel trials through the compiled C")
+    a.add_argument("--seed", type=int, default=1, help="random seed of the simulation (default 1)")
+    a.add_argument("--plot", metavar="FILE", help="draw the figures into FILE (.png or .svg)")
+    a.add_argument("--json", metavar="FILE", help="also write the figures as JSON")
+    a.set_defaults(func=cmd_analyze)
+
+    r = sub.add_parser("recommend", help="the cheapest code that meets a failure target on a channel")
+    r.add_argument("--data-bytes", type=int, required=True, metavar="N", help="bytes of data to protect")
+    r.add_argument("--flip-prob", type=float, required=True, metavar="F",
+                   help="probability that the channel flips a bit, in (0, 0.5)")
+    r.add_argument("--target", type=float, required=True, metavar="P",
+                   help="largest acceptable failure for the whole data, in (0, 1)")
+    r.add_argument("--families", nargs="+", choices=list(specmod.FAMILIES), metavar="FAMILY",
+                   help=f"families to search (default all: {', '.join(specmod.FAMILIES)})")
+    r.add_argument("--profile", choices=specmod.PROFILES, default="fast",
+                   help="C profile whose table sizes count (default fast)")
+    r.add_argument("--json", metavar="FILE", help="also write the candidates as JSON")
+    r.add_argument("--write", metavar="DIR", help="write the best candidate as a spec file into DIR")
+    r.set_defaults(func=cmd_recommend)
     return p
 
 
 def main(argv: list[str] | None = None) -> int:
-    args = parser().parse_args(argv)
-    if getattr(args, "budget", 1) < 1:
-        parser().error("--budget must be at least 1")
+    try:
+        args = parser().parse_args(argv)
+        problem = _check_args(args)
+        if problem:
+            parser().error(problem)
+    except SystemExit as done:                 # --help, --version, usage errors
+        return done.code if isinstance(done.code, int) else EXIT_BAD_INPUT
     try:
         return args.func(args)
     except specmod.SpecError as err:

@@ -16,18 +16,21 @@ from pathlib import Path
 from typing import Any
 
 
+NO_VALUE = object()          # a Problem without a "got" value
+
+
 @dataclass(frozen=True)
 class Problem:
     file: str
     table: str
     key: str
     message: str
-    got: Any = dataclasses.MISSING
+    got: Any = NO_VALUE
 
     def __str__(self) -> str:
         where = f"[{self.table}] {self.key}" if self.key else f"[{self.table}]"
         text = f"{self.file}: {where}: {self.message}"
-        if self.got is not dataclasses.MISSING:
+        if self.got is not NO_VALUE:
             text += f" (got {_show(self.got)})"
         return text
 
@@ -141,7 +144,7 @@ class Spec:
     def table(self, name: str):
         return self.params[name]
 
-    def problem(self, table: str, key: str, message: str, got: Any = dataclasses.MISSING) -> Problem:
+    def problem(self, table: str, key: str, message: str, got: Any = NO_VALUE) -> Problem:
         return Problem(self.source_name, table, key, message, got)
 
     def with_profile(self, profile: str) -> "Spec":
@@ -171,7 +174,7 @@ def parse(doc: dict, path: str, sha256: str = "") -> Spec:
     label = Path(path).name
     problems: list[Problem] = []
 
-    def bad(table: str, key: str, message: str, got: Any = dataclasses.MISSING) -> None:
+    def bad(table: str, key: str, message: str, got: Any = NO_VALUE) -> None:
         problems.append(Problem(label, table, key, message, got))
 
     code = _table(doc, "code", bad)
