@@ -8,6 +8,8 @@ block fails, or copies <= 2, the first copy whose CRC passes is taken.
 """
 from __future__ import annotations
 
+import numpy as np
+
 from ..spec import Spec
 from .base import ERR_LENGTH, ERR_UNCORRECTABLE, CodeModel, Properties, ctype_bytes, ctype_for
 
@@ -141,14 +143,11 @@ class CrcRepetition(CodeModel):
         return self.crc.to_bytes(self.crc.compute(block[:data_len])) == block[data_len:]
 
     def _vote(self, blocks: list[bytes]) -> bytes:
-        out = bytearray(len(blocks[0]))
-        for j in range(len(out)):
-            for bit in range(8):
-                mask = 1 << bit
-                ones = sum(1 for b in blocks if b[j] & mask)
-                if 2 * ones > self.copies or (2 * ones == self.copies and blocks[0][j] & mask):
-                    out[j] |= mask
-        return bytes(out)
+        """Bitwise majority over the copies; a tie (even copies) keeps copy 0's bit."""
+        bits = np.unpackbits(np.frombuffer(b"".join(blocks), dtype=np.uint8).reshape(len(blocks), -1), axis=1)
+        ones = 2 * bits.sum(axis=0, dtype=np.int64)
+        voted = (ones > self.copies) | ((ones == self.copies) & (bits[0] == 1))
+        return np.packbits(voted.astype(np.uint8)).tobytes()
 
     def decode(self, data: bytes, parity: bytes) -> tuple[int, bytes, bytes]:
         data, parity = bytes(data), bytes(parity)
