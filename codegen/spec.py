@@ -207,11 +207,11 @@ def parse(doc: dict, path: str, sha256: str = "") -> Spec:
             bad("c", "table_attr", 'must be __attribute__((...)) listing only section("..."), aligned(N) '
                 "or used", table_attr)
 
-    allowed_tables = {"code", "c"} | (set(FAMILIES[family]) if family else set(doc) - {"code", "c"})
-    for key in doc:
-        if key not in allowed_tables:
-            what = "unknown table" if family else "table"
-            bad(key, "", f"{what} for family {family!r}" if family else what + " without a valid family")
+    if family:
+        known = {"code", "c"} | set(FAMILIES[family])
+        for key in doc:
+            if key not in known:
+                bad(key, "", f"unknown table for family {family!r} (known: {', '.join(sorted(known))})")
 
     params = {}
     if family:

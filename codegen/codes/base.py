@@ -17,7 +17,7 @@ ERR_ARG = -3
 
 # Stated stack bound: per call level (return address, saved registers, scalar locals) plus local arrays.
 # tests/test_stack.py holds it against gcc -fstack-usage on the host.
-FRAME_BYTES = 64
+FRAME_BYTES = 96
 
 
 @dataclass(frozen=True)
