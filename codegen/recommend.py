@@ -1,0 +1,313 @@
+"""Code choice: which configuration of which family protects N data bytes to a target failure at the
+least cost, on a binary symmetric channel with flip probability f.
+
+Per family a fast search (closed-form sizes and codegen.channel) finds, for each way of splitting the
+data over codewords, the weakest configuration that meets the target.  Each of those finalists is then
+built as a real spec (codegen.spec.parse) and a real model (codegen.codes.build), and judged again from
+the model's own figures: parity bytes, table bytes and the block failure of codegen.analysis.  "Block
+failure for the whole data" is 1 - (1 - p)^c for c codewords failing independently with p each; for CRC +
+repetition the CRC's undetected-error estimate is added to it (a silent wrong answer is a failure too).
+A last codeword that is not full is counted as full (zero padded), which slightly overstates its failure.
+Candidates are ranked by parity bytes, then table bytes, then failure.
+"""
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass, field
+
+from . import analysis, channel, gf
+from .codes import build
+from .spec import FAMILIES, PROFILES, SpecError, parse
+
+# CRCs offered with repetition (catalogue parameters; CRC-16/KERMIT and CRC-32 as in the examples)
+CRCS = {
+    8: {"width": 8, "poly": 0x07, "init": 0, "reflect_in": False, "reflect_out": False, "xor_out": 0},
+    16: {"width": 16, "poly": 0x1021, "init": 0, "reflect_in": True, "reflect_out": True, "xor_out": 0},
+    32: {"width": 32, "poly": 0x04C11DB7, "init": 0xFFFFFFFF, "reflect_in": True, "reflect_out": True,
+         "xor_out": 0xFFFFFFFF},
+}
+MAX_COPIES = 15
+MAX_SPLITS = 8              # powers of two of codewords tried, after the fewest that fit
+MAX_BCH_T = 400
+
+
+@dataclass
+class Candidate:
+    family: str
+    name: str
+    tables: dict                    # {table: {key: value}} as written to the spec
+    codewords: int
+    chunk_bytes: int                # data bytes per codeword
+    parity_bytes: int = 0           # all codewords together
+    table_bytes: int = 0
+    codeword_failure: float = math.nan
+    block_failure: float = math.nan  # the whole data
+    n: int = 0
+    k: int = 0
+    t: int = 0
+    unit_bits: int = 1
+    rate: float = 0.0
+    notes: list = field(default_factory=list)
+
+    def doc(self, profile: str) -> dict:
+        d = {"code": {"name": self.name, "family": self.family}}
+        d.update(self.tables)
+        if profile != "fast":
+            d["c"] = {"profile": profile}
+        return d
+
+    def describe(self) -> str:
+        parts = []
+        for table, values in self.tables.items():
+            for key, value in values.items():
+                if key in ("init", "reflect_in", "reflect_out", "xor_out", "poly"):
+                    continue
+                parts.append(f"{key}={value}")
+        return " ".join(parts)
+
+    def as_dict(self) -> dict:
+        return {"family": self.family, "name": self.name, "parameters": self.tables,
+                "codewords": self.codewords, "data_bytes_per_codeword": self.chunk_bytes,
+                "parity_bytes": self.parity_bytes, "table_bytes": self.table_bytes,
+                "block_failure": self.block_failure, "codeword_failure": self.codeword_failure,
+                "n": self.n, "k": self.k, "t": self.t, "unit_bits": self.unit_bits, "rate": self.rate,
+                "notes": self.notes}
+
+
+def splits(data_bytes: int, smallest_chunk: int = 1, fewest: int = 1) -> list[int]:
+    """Codeword counts to try: the fewest that fit (and one more), then powers of two from there, while a
+    codeword still holds smallest_chunk bytes; never more codewords than it takes to hold the data."""
+    out = {fewest, fewest + 1}
+    c = 1
+    while len(out) < MAX_SPLITS + 2 and math.ceil(data_bytes / c) >= smallest_chunk:
+        if c >= fewest:
+            out.add(c)
+        c *= 2
+    # the codewords a chunk size really takes (every one holding data), each chunk size once
+    useful = {}
+    for c in sorted(out):
+        chunk = math.ceil(data_bytes / c)
+        useful.setdefault(chunk, math.ceil(data_bytes / chunk))
+    return sorted(set(useful.values()))
+
+
+# -- fast per-family searches: yield Candidates (not yet built) --------------------------------------------
+
+def _hamming(data_bytes: int, f: float, target: float):
+    for chunk in (1, 2, 4, 8, 16, 32, 64, 128):
+        if chunk > data_bytes and chunk > 1:
+            break
+        count = math.ceil(data_bytes / chunk)
+        for secded in (True, False):
+            name = f"{'secded' if secded else 'hamming'}_{8 * chunk}"
+            yield Candidate("hamming", name, {"hamming": {"data_bits": 8 * chunk, "secded": secded}},
+                            count, chunk)
+
+
+def bch_parity_bits(m: int, t: int) -> int:
+    """deg g of the narrow-sense binary BCH code over GF(2^m) correcting t: the size of the union of
+    the cyclotomic cosets of 1, 3, ..., 2t-1 (exact: g is the product of their minimal polynomials)."""
+    roots: set[int] = set()
+    for i in range(1, 2 * t, 2):
+        if i % ((1 << m) - 1) not in roots:
+            roots.update(gf.cyclotomic_coset(i, m))
+    return len(roots)
+
+
+def _bch(data_bytes: int, f: float, target: float):
+    biggest = ((1 << 16) - 1 - 16 * 64) // 8         # bytes one GF(2^16) codeword holds with t = 64
+    for count in splits(data_bytes, 1, math.ceil(data_bytes / biggest)):
+        chunk = math.ceil(data_bytes / count)
+        bits = 8 * chunk
+        m_min = next((m for m in range(3, 17) if (1 << m) - 1 >= bits + m), None)
+        if m_min is None:
+            continue
+        for m in range(m_min, min(m_min + 1, 16) + 1):
+            roots: set[int] = set()
+            best = None
+            for t in range(1, MAX_BCH_T + 1):
+                i = 2 * t - 1
+                if i % ((1 << m) - 1) not in roots:
+                    roots.update(gf.cyclotomic_coset(i, m))
+                n = bits + len(roots)
+                if n > (1 << m) - 1:
+                    break
+                p = channel.repeat_failure(channel.tail(n, t, f), count)
+                if best is None or p < best[1]:
+                    best = (t, p)
+                if p <= target:
+                    break
+            if best is not None:
+                t = best[0]
+                yield Candidate("bch", f"bch_m{m}_t{t}", {"bch": {"m": m, "t": t, "data_bits": bits}},
+                                count, chunk)
+
+
+def _reed_solomon(data_bytes: int, f: float, target: float):
+    m = 8
+    order = (1 << m) - 1
+    ps = channel.symbol_error(f, m)
+    for count in splits(data_bytes, 1, math.ceil(data_bytes / (order - 2))):
+        k = math.ceil(data_bytes / count)
+        best = None
+        for t in range(1, (order - k) // 2 + 1):
+            p = channel.repeat_failure(channel.tail(k + 2 * t, t, ps), count)
+            if best is None or p < best[1]:
+                best = (t, p)
+            if p <= target:
+                break
+        if best is not None:
+            t = best[0]
+            yield Candidate("reed-solomon", f"rs_n{k + 2 * t}_k{k}",
+                            {"reed-solomon": {"n": k + 2 * t, "k": k, "symbol_bits": m}}, count, k)
+
+
+def _crc_repetition(data_bytes: int, f: float, target: float):
+    for width, crc in CRCS.items():
+        for count in splits(data_bytes, 4, math.ceil(data_bytes / 65535)):
+            chunk = math.ceil(data_bytes / count)
+            block_bits = 8 * (chunk + (width + 7) // 8)
+            best = None
+            for copies in range(1, MAX_COPIES + 1):
+                r = channel.crc_repetition(copies, block_bits, width, f)
+                p = channel.repeat_failure(min(1.0, r["block_failure"] + r["crc_undetected"]), count)
+                if best is None or p < best[1]:
+                    best = (copies, p)
+                if p <= target:
+                    break
+            copies = best[0]
+            yield Candidate("crc-repetition", f"crc{width}_x{copies}",
+                            {"crc": dict(crc), "repetition": {"copies": copies, "data_bytes": chunk}},
+                            count, chunk)
+
+
+SEARCHES = {"hamming": _hamming, "bch": _bch, "reed-solomon": _reed_solomon,
+            "crc-repetition": _crc_repetition}
+
+
+# -- judging with the real models ----------------------------------------------------------------------
+
+def _judge(c: Candidate, f: float, profile: str) -> Candidate:
+    spec = parse(c.doc(profile), f"{c.name}.toml")
+    model = build(spec)
+    p = model.properties
+    fig = analysis.failure(model, f)
+    one = fig["block_failure"]
+    if "crc_undetected_estimate" in fig:
+        one = min(1.0, one + fig["crc_undetected_estimate"])
+        c.notes.append("failure includes the CRC miss estimate")
+    if p.data_bytes < c.chunk_bytes:
+        raise ValueError(f"{c.name}: model holds {p.data_bytes} bytes, not {c.chunk_bytes}")
+    if c.codewords > 1:
+        c.notes.append(f"data split over {c.codewords} codewords of {c.chunk_bytes} bytes")
+    c.codeword_failure = one
+    c.block_failure = channel.repeat_failure(one, c.codewords)
+    c.parity_bytes = c.codewords * model.parity_len(c.chunk_bytes)
+    c.table_bytes = p.table_bytes
+    c.n, c.k, c.t, c.unit_bits, c.rate = p.n, p.k, p.t, p.unit_bits, p.rate
+    return c
+
+
+@dataclass
+class Outcome:
+    data_bytes: int
+    flip_prob: float
+    target: float
+    candidates: list            # meeting the target, best first
+    closest: list               # when none meets it: the lowest failures
+    skipped: dict               # family -> why
+
+    @property
+    def best(self) -> Candidate | None:
+        return self.candidates[0] if self.candidates else None
+
+    def as_dict(self) -> dict:
+        return {"data_bytes": self.data_bytes, "flip_prob": self.flip_prob, "target": self.target,
+                "met": bool(self.candidates),
+                "candidates": [c.as_dict() for c in self.candidates],
+                "closest": [c.as_dict() for c in self.closest], "skipped": self.skipped}
+
+
+def search(data_bytes: int, f: float, target: float, families: list[str] | None = None,
+           profile: str = "fast", closest: int = 5) -> Outcome:
+    if data_bytes <= 0:
+        raise ValueError(f"data bytes must be positive (got {data_bytes})")
+    if not 0.0 < f < 0.5:
+        raise ValueError(f"flip probability must be in (0, 0.5) (got {f})")
+    if not 0.0 < target < 1.0:
+        raise ValueError(f"target must be in (0, 1) (got {target})")
+    if profile not in PROFILES:
+        raise ValueError(f"profile must be one of {', '.join(PROFILES)} (got {profile})")
+    judged, skipped = [], {}
+    for family in families or list(SEARCHES):
+        if family not in FAMILIES:
+            raise ValueError(f"unknown family {family!r}")
+        seen = set()
+        for cand in SEARCHES[family](data_bytes, f, target):
+            key = (cand.name, cand.codewords)
+            if key in seen:
+                continue
+            seen.add(key)
+            try:
+                judged.append(_judge(cand, f, profile))
+            except ModuleNotFoundError as err:
+                skipped[family] = f"model not available ({err.name})"
+                break
+            except SpecError as err:
+                skipped.setdefault(family, f"{cand.name}: {err}")
+    order = lambda c: (c.parity_bytes, c.table_bytes, c.block_failure)  # noqa: E731
+    meeting = sorted((c for c in judged if c.block_failure <= target), key=order)
+    near = [] if meeting else sorted(judged, key=lambda c: (c.block_failure, c.parity_bytes))[:closest]
+    return Outcome(data_bytes, f, target, meeting, near, skipped)
+
+
+def _fmt(x: float) -> str:
+    return f"{x:.2e}"
+
+
+def table(outcome: Outcome, rows_shown: int = 12) -> str:
+    head = (f"{outcome.data_bytes} data bytes, flip probability {outcome.flip_prob:g}, "
+            f"target block failure {outcome.target:g}")
+    rows = outcome.candidates or outcome.closest
+    lines = [head]
+    if not outcome.candidates:
+        lines.append("nothing meets the target; the closest candidates:")
+    cols = f"  {'#':>2}  {'family':<15}{'parameters':<34}{'words':>6}{'parity B':>10}{'tables B':>10}" \
+           f"{'failure':>11}{'rate':>8}"
+    lines.append(cols)
+    for i, c in enumerate(rows[:rows_shown], 1):
+        lines.append(f"  {i:>2}  {c.family:<15}{c.describe():<34}{c.codewords:>6}{c.parity_bytes:>10}"
+                     f"{c.table_bytes:>10}{_fmt(c.block_failure):>11}{c.rate:>8.3f}")
+    if len(rows) > rows_shown:
+        lines.append(f"  ... and {len(rows) - rows_shown} more (all of them in --json)")
+    for family, why in outcome.skipped.items():
+        lines.append(f"  (skipped {family}: {why})")
+    return "\n".join(lines)
+
+
+HEX_KEYS = {"poly", "init", "xor_out", "field_poly"}
+
+
+def _toml_value(v, key: str = "") -> str:
+    if isinstance(v, bool):
+        return "true" if v else "false"
+    if isinstance(v, int):
+        return f"0x{v:X}" if key in HEX_KEYS else str(v)
+    return '"' + str(v).replace("\\", "\\\\").replace('"', '\\"') + '"'
+
+
+def spec_text(c: Candidate, outcome: Outcome, profile: str = "fast") -> str:
+    """The candidate as a spec file for `bitmend generate`."""
+    lines = [
+        f"# Chosen by bitmend recommend for {outcome.data_bytes} data bytes on a channel flipping each bit",
+        f"# with probability {outcome.flip_prob:g}, target block failure {outcome.target:g}.",
+        f"# {c.codewords} codeword(s) of {c.chunk_bytes} data bytes; parity {c.parity_bytes} bytes in all; "
+        f"block failure {c.block_failure:.3e} for the whole data",
+        "# (independent bit flips only: bursts and retention effects are not modelled).",
+    ]
+    for table, values in c.doc(profile).items():
+        lines.append("")
+        lines.append(f"[{table}]")
+        for key, value in values.items():
+            lines.append(f"{key} = {_toml_value(value, key)}")
+    return "\n".join(lines) + "\n"
