@@ -221,6 +221,24 @@ class Module:
         rc = self.fn("decode")(d, len(data), p)
         return rc, self._take(d_raw, len(data), "data"), self._take(p_raw, len(parity), "parity")
 
+    def decode_erasures(self, data: bytes, parity: bytes, positions, count: int | None = None
+                        ) -> tuple[int, bytes, bytes]:
+        """P_decode_erasures on guarded buffers.  `positions` (symbol indexes into data || parity) is passed
+        as a guarded uint16_t array, or NULL when None; `count` defaults to its length."""
+        d_raw, d = self._buf(data)
+        p_raw, p = self._buf(parity)
+        if positions is None:
+            e_raw, e, packed = None, self.ffi.NULL, b""
+        else:
+            packed = b"".join(int(x).to_bytes(2, sys.byteorder) for x in positions)
+            e_raw, e = self._buf(packed)
+            e = self.ffi.cast("uint16_t *", e)
+        n = len(packed) // 2 if count is None else count
+        rc = self.fn("decode_erasures")(d, len(data), p, e, n)
+        if e_raw is not None and self._take(e_raw, len(packed), "positions") != packed:
+            raise GuardError(f"{self.name}_decode_erasures changed its positions")
+        return rc, self._take(d_raw, len(data), "data"), self._take(p_raw, len(parity), "parity")
+
     def check(self, data: bytes, parity: bytes) -> int:
         d_raw, d = self._buf(data)
         p_raw, p = self._buf(parity)

@@ -27,6 +27,8 @@ class Case:
     kind: str
     data: bytes
     errors: tuple[tuple[int, int], ...]   # (bit offset in data || parity, XOR value of unit_bits bits)
+    # for models with decode_erasures: the erasure list (unit indexes into data || parity) passed to it
+    erasures: tuple[int, ...] | None = None
 
 
 @dataclass
@@ -81,20 +83,27 @@ def apply_errors(model: CodeModel, data: bytes, parity: bytes, errors) -> tuple[
 
 
 def compare(model: CodeModel, module: harness.Module, case: Case) -> str | None:
-    """None when C and model agree on every output for this case, else what differs."""
+    """None when C and model agree on every output for this case, else what differs.  A case with an
+    erasure list goes through decode_erasures instead of decode and check."""
     where = f"data_len={len(case.data)} errors={list(case.errors)[:8]}"
+    if case.erasures is not None:
+        where += f" erasures={list(case.erasures)[:8]}"
     plen = model.parity_len(len(case.data))
     ref_parity = model.encode(case.data)
     rc, parity = module.encode(case.data, plen)
     if rc != 0 or parity != ref_parity:
         return f"encode differs (rc {rc}) {where}"
     rd, rp = apply_errors(model, case.data, parity, case.errors)
-    ref = model.decode(rd, rp)
-    got = module.decode(rd, rp)
+    if case.erasures is None:
+        name, ref, got = "decode", model.decode(rd, rp), module.decode(rd, rp)
+    else:
+        name = "decode_erasures"
+        ref = model.decode_erasures(rd, rp, case.erasures)
+        got = module.decode_erasures(rd, rp, case.erasures)
     if got != ref:
         what = [n for n, a, b in zip(("status", "data", "parity"), got, ref) if a != b]
-        return f"decode {', '.join(what)} differ (C {got[0]}, model {ref[0]}) {where}"
-    if module.check(rd, rp) != model.check(rd, rp):
+        return f"{name} {', '.join(what)} differ (C {got[0]}, model {ref[0]}) {where}"
+    if case.erasures is None and module.check(rd, rp) != model.check(rd, rp):
         return f"check differs {where}"
     return None
 
@@ -173,6 +182,67 @@ class _Cases:
                     break
                 picks = self.rng.choice(len(units), w, replace=False)
                 yield Case(f"weight {w} (beyond t)", self.data(n), self._errors(units, picks))
+        if hasattr(self.model, "decode_erasures"):
+            yield from self.erasure_cases()
+
+    def erasure_cases(self):
+        """Erasure lists for models with decode_erasures: erasures alone (some erased units right),
+        erasures with errors inside the capability 2s + e <= d - 1 and just beyond it, and invalid lists
+        (repeated, out of range, too long) that must leave the buffers untouched."""
+        room = self.p.d - 1                       # 2s + e <= room is always corrected
+        per = max(1, min(self.budget, 60))
+        lengths = self.lengths()
+
+        def draw(count: int):
+            """(data_len, unit indexes) for `count` distinct units of a random allowed length, or None."""
+            length = int(self.rng.choice(lengths))
+            total = len(self.model.error_units(length))
+            if count > total:
+                return None
+            return length, self.rng.choice(total, count, replace=False).tolist()
+
+        def errs(length: int, idx: list[int], allow_zero: bool) -> list:
+            units = self.model.error_units(length)
+            out = []
+            for i in idx:
+                v = self.value()
+                if allow_zero and self.rng.random() < 0.25:
+                    v = 0                         # an erased unit that arrived intact
+                out.append((units[i], v))
+            return out
+
+        for e in range(1, room + 1):
+            for _ in range(per):
+                got = draw(e)
+                if got:
+                    length, idx = got
+                    yield Case("erasures", self.data(length), tuple(sorted(errs(length, idx, True))),
+                               tuple(idx))
+        for e in range(0, room + 1):
+            fit = (room - e) // 2                 # most errors that still fit beside e erasures
+            for kind, s in (("erasures+errors", fit), ("erasures+errors (beyond)", fit + 1),
+                            ("erasures+errors (beyond)", fit + 2)):
+                for _ in range(max(1, per // 3)):
+                    got = draw(e + s)
+                    if got:
+                        length, idx = got
+                        erased, wrong = idx[:e], idx[e:]
+                        errors = errs(length, erased, True) + errs(length, wrong, False)
+                        yield Case(kind, self.data(length), tuple(sorted(errors)), tuple(erased))
+        for _ in range(per):
+            got = draw(min(3, len(self.model.error_units(min(lengths)))))
+            if not got:
+                continue
+            length, idx = got
+            total = len(self.model.error_units(length))
+            errors = tuple(sorted(errs(length, idx, False)))
+            bad_lists = [tuple(idx + idx[:1]),                       # repeated position
+                         tuple(idx[:1] + [total]),                   # one past the end
+                         (0xFFFF,)]                                  # far out of range
+            if total > room:
+                bad_lists.append(tuple(range(room + 1)))             # longer than d - 1
+            for lst in bad_lists:
+                yield Case("bad erasure list", self.data(length), errors, lst)
 
 
 def campaign(model: CodeModel, module: harness.Module, seed: int = 1, budget: int = 2000,
