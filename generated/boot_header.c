@@ -18,7 +18,10 @@ typedef boot_header_crc_t boot_header_reg_t;
 
 /* Register update for one input nibble: entry i is the register after shifting i through 4 steps
  * of the polynomial division, computed by the bitmend model. */
-BOOT_HEADER_TABLE_ATTR static const boot_header_reg_t boot_header_table[16] = {    0x00000000UL, 0x1DB71064UL, 0x3B6E20C8UL, 0x26D930ACUL, 0x76DC4190UL, 0x6B6B51F4UL, 0x4DB26158UL, 0x5005713CUL,    0xEDB88320UL, 0xF00F9344UL, 0xD6D6A3E8UL, 0xCB61B38CUL, 0x9B64C2B0UL, 0x86D3D2D4UL, 0xA00AE278UL, 0xBDBDF21CUL};
+BOOT_HEADER_TABLE_ATTR static const boot_header_reg_t boot_header_table[16] = {
+    0x00000000UL, 0x1DB71064UL, 0x3B6E20C8UL, 0x26D930ACUL, 0x76DC4190UL, 0x6B6B51F4UL, 0x4DB26158UL, 0x5005713CUL,
+    0xEDB88320UL, 0xF00F9344UL, 0xD6D6A3E8UL, 0xCB61B38CUL, 0x9B64C2B0UL, 0x86D3D2D4UL, 0xA00AE278UL, 0xBDBDF21CUL
+};
 
 boot_header_crc_t boot_header_crc_init(void)
 {

@@ -30,7 +30,7 @@ extern "C" {
 #define BOOT_HEADER_PARITY_BYTES      4u   /* check bytes for the largest block */
 #define BOOT_HEADER_CORRECTABLE       0   /* errors always corrected */
 #define BOOT_HEADER_TABLE_BYTES       64u   /* constant table bytes in the .c */
-#define BOOT_HEADER_STACK_BYTES       320u   /* worst-case stack bound, bytes */
+#define BOOT_HEADER_STACK_BYTES       480u   /* worst-case stack bound, bytes */
 #define BOOT_HEADER_ERR_UNCORRECTABLE (-1)
 #define BOOT_HEADER_ERR_LENGTH        (-2)
 #define BOOT_HEADER_ERR_ARG           (-3)  /* a NULL buffer or an invalid argument */

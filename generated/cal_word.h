@@ -29,7 +29,7 @@ extern "C" {
 #define CAL_WORD_PARITY_BYTES      1u   /* check bytes for the largest block */
 #define CAL_WORD_CORRECTABLE       1   /* errors always corrected */
 #define CAL_WORD_TABLE_BYTES       128u   /* constant table bytes in the .c */
-#define CAL_WORD_STACK_BYTES       192u   /* worst-case stack bound, bytes */
+#define CAL_WORD_STACK_BYTES       288u   /* worst-case stack bound, bytes */
 #define CAL_WORD_ERR_UNCORRECTABLE (-1)
 #define CAL_WORD_ERR_LENGTH        (-2)
 #define CAL_WORD_ERR_ARG           (-3)  /* a NULL buffer or an invalid argument */

@@ -28,7 +28,7 @@ extern "C" {
 #define MEM_WORD_PARITY_BYTES      1u   /* check bytes for the largest block */
 #define MEM_WORD_CORRECTABLE       1   /* errors always corrected */
 #define MEM_WORD_TABLE_BYTES       2304u   /* constant table bytes in the .c */
-#define MEM_WORD_STACK_BYTES       192u   /* worst-case stack bound, bytes */
+#define MEM_WORD_STACK_BYTES       288u   /* worst-case stack bound, bytes */
 #define MEM_WORD_ERR_UNCORRECTABLE (-1)
 #define MEM_WORD_ERR_LENGTH        (-2)
 #define MEM_WORD_ERR_ARG           (-3)  /* a NULL buffer or an invalid argument */

@@ -31,7 +31,7 @@ extern "C" {
 #define SOIL_PROBE_PARITY_BYTES      54u   /* check bytes for the largest block */
 #define SOIL_PROBE_CORRECTABLE       2   /* errors always corrected */
 #define SOIL_PROBE_TABLE_BYTES       512u   /* constant table bytes in the .c */
-#define SOIL_PROBE_STACK_BYTES       320u   /* worst-case stack bound, bytes */
+#define SOIL_PROBE_STACK_BYTES       480u   /* worst-case stack bound, bytes */
 #define SOIL_PROBE_ERR_UNCORRECTABLE (-1)
 #define SOIL_PROBE_ERR_LENGTH        (-2)
 #define SOIL_PROBE_ERR_ARG           (-3)  /* a NULL buffer or an invalid argument */

@@ -10,7 +10,9 @@
 #include "beacon_telemetry.h"
 #include "boot_header.h"
 #include "cal_word.h"
+#include "flash_page.h"
 #include "mem_word.h"
+#include "meter_reading.h"
 #include "soil_probe.h"
 
 static int unexpected;
@@ -234,6 +236,67 @@ static void archive_block_demo(void)
     rc = archive_block_decode_erasures(record, sizeof record, parity, unreadable, 2u);
     outcome("a repeated erasure position: argument error", rc, ARCHIVE_BLOCK_ERR_ARG, 1);
 }
+/* NAND page: 2 KiB as four 512-byte sectors, each with 13 parity bytes in the spare area (BCH, t = 8). */
+static void flash_page_demo(void)
+{
+    enum { SECTORS = 4, SECTOR = FLASH_PAGE_DATA_BYTES, SPARE = SECTORS * FLASH_PAGE_PARITY_BYTES };
+    static uint8_t page[SECTORS * SECTOR], written[SECTORS * SECTOR];
+    static uint8_t spare[SPARE], written_spare[SPARE];
+    unsigned s;
+    unsigned e;
+    int rc;
+
+    puts("flash_page: BCH(m = 13, t = 8) per 512-byte sector, four sectors per 2 KiB page");
+    fill(written, sizeof written, 11u);
+    for (s = 0; s < SECTORS; s++) {
+        flash_page_encode(&written[s * SECTOR], SECTOR, &written_spare[s * FLASH_PAGE_PARITY_BYTES]);
+    }
+    memcpy(page, written, sizeof page);
+    memcpy(spare, written_spare, sizeof spare);
+    for (e = 0; e < 8u; e++) {
+        flip(&page[0], 97u + 509u * e);                                   /* sector 0: 8 bit errors */
+    }
+    flip(&spare[2u * FLASH_PAGE_PARITY_BYTES], 5u);                       /* sector 2: one in its parity */
+    for (e = 0; e < 9u; e++) {
+        flip(&page[3u * SECTOR], 13u + 450u * e);                         /* sector 3: 9 bit errors */
+    }
+    rc = flash_page_decode(&page[0], SECTOR, &spare[0]);
+    outcome("sector 0, 8 bit errors: all corrected", rc, 8, memcmp(page, written, SECTOR) == 0);
+    rc = flash_page_decode(&page[SECTOR], SECTOR, &spare[FLASH_PAGE_PARITY_BYTES]);
+    outcome("sector 1, clean: nothing to do", rc, 0, memcmp(&page[SECTOR], &written[SECTOR], SECTOR) == 0);
+    rc = flash_page_decode(&page[2u * SECTOR], SECTOR, &spare[2u * FLASH_PAGE_PARITY_BYTES]);
+    outcome("sector 2, 1 error in the spare area: corrected", rc, 1,
+            memcmp(spare, written_spare, 3u * FLASH_PAGE_PARITY_BYTES) == 0);
+    memcpy(written, page, sizeof page);                                    /* keep the damaged sector */
+    rc = flash_page_decode(&page[3u * SECTOR], SECTOR, &spare[3u * FLASH_PAGE_PARITY_BYTES]);
+    outcome("sector 3, 9 bit errors: uncorrectable, sector left as read", rc, FLASH_PAGE_ERR_UNCORRECTABLE,
+            memcmp(&page[3u * SECTOR], &written[3u * SECTOR], SECTOR) == 0
+            && memcmp(&spare[3u * FLASH_PAGE_PARITY_BYTES], &written_spare[3u * FLASH_PAGE_PARITY_BYTES],
+                      FLASH_PAGE_PARITY_BYTES) == 0);
+}
+
+/* Water meter: a 16-byte hourly reading with 3 BCH parity bytes (m = 8, t = 3, field 0x12B). */
+static void meter_reading_demo(void)
+{
+    static uint8_t reading[METER_READING_DATA_BYTES], sent[METER_READING_DATA_BYTES];
+    static uint8_t parity[METER_READING_PARITY_BYTES], sent_parity[METER_READING_PARITY_BYTES];
+    int rc;
+
+    puts("meter_reading: BCH(m = 8, t = 3) over a 16-byte reading");
+    fill(sent, sizeof sent, 5u);
+    meter_reading_encode(sent, sizeof sent, sent_parity);
+    memcpy(reading, sent, sizeof sent);
+    memcpy(parity, sent_parity, sizeof parity);
+    flip(reading, 3u);
+    flip(reading, 77u);
+    flip(parity, 20u);
+    rc = meter_reading_decode(reading, sizeof reading, parity);
+    outcome("3 bit errors (2 in the reading, 1 in parity): corrected", rc, 3,
+            memcmp(reading, sent, sizeof sent) == 0 && memcmp(parity, sent_parity, sizeof parity) == 0);
+    rc = meter_reading_check(reading, sizeof reading, parity);
+    outcome("check after decode: a codeword", rc, 0, 1);
+}
+
 int main(void)
 {
     soil_probe_demo();
@@ -242,6 +305,8 @@ int main(void)
     boot_header_demo();
     beacon_telemetry_demo();
     archive_block_demo();
+    flash_page_demo();
+    meter_reading_demo();
     printf("%s\n", unexpected == 0 ? "all outcomes as expected" : "SOME OUTCOMES UNEXPECTED");
     return unexpected == 0 ? 0 : 1;
 }
