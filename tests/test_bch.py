@@ -161,16 +161,6 @@ def expected_kinds(t: int) -> set[str]:
     return kinds
 
 
-@pytest.mark.parametrize("profile", PROFILES)
-@pytest.mark.parametrize("path", BCH_EXAMPLES, ids=[p.stem for p in BCH_EXAMPLES])
-def test_example_campaign(path: Path, profile):
-    model = make_model(path.read_text(), profile)
-    report = verify.campaign(model, compile_model(model), seed=5, budget=30, progress=False)
-    assert report.ok, report.table()
-    ran = {kind for kind, count in report.cases.items() if count > 0}
-    assert expected_kinds(model.t) <= ran, report.cases
-
-
 # Shapes the examples do not reach: the smallest field, a register of one word shorter than a byte of
 # parity, unaligned data bits with parity pad bits, more than eight remainder words (array register), m = 16.
 EDGE = [
@@ -195,21 +185,8 @@ def test_edge_campaign(name, m, t, data_bits, poly, profile):
 @pytest.mark.parametrize("profile", PROFILES)
 @pytest.mark.parametrize("name,m,t,data_bits,poly", EDGE, ids=[e[0] for e in EDGE])
 def test_edge_stack_bound(name, m, t, data_bits, poly, profile, tmp_path):
-    # the header's stack bound against gcc's call graph with frame sizes (helper of tests/test_stack.py)
-    import re
-    import subprocess
-    from codegen import emit
-    from test_stack import deepest_chain
-    model = make_model(bch_toml(name, m, t, data_bits, poly, profile))
-    files = emit.render(model)
-    for fname, text in files.items():
-        (tmp_path / fname).write_text(text)
-    stated = int(re.search(rf"#define {name.upper()}_STACK_BYTES\s+(\d+)u", files[f"{name}.h"]).group(1))
-    for opt in ("-O0", "-O2"):
-        subprocess.run(["gcc", "-std=c99", opt, "-fcallgraph-info=su", "-c", f"{name}.c", "-o", "m.o"],
-                       cwd=tmp_path, check=True)
-        used = deepest_chain((tmp_path / "m.ci").read_text())
-        assert 0 < used <= stated, f"{opt}: gcc {used}, header {stated}"
+    from test_header_figures import check_stack_bound
+    check_stack_bound(make_model(bch_toml(name, m, t, data_bits, poly, profile)), tmp_path, ("-O0", "-O2"))
 
 
 def test_wide_register_is_looped_and_edges_are_shaped_as_claimed():

@@ -18,6 +18,10 @@ def test_example_campaign(path, profile):
     budget = max(20, 600 // (t + 3))              # keeps long codes' Python reference affordable
     report = verify.campaign(model, compile_model(model), seed=11, budget=budget, progress=False)
     assert report.ok, report.table()
-    expected = {"clean", "every data_len", "first/last unit", "bursts", f"weight {t + 1} (beyond t)"}
-    expected |= {f"weight {w}" for w in range(1, t + 1)} | ({"parity only"} if t else set())
+    expected = {"clean", "every data_len", "first/last unit", "bursts"}
+    expected |= {f"weight {w}" for w in range(1, t + 1)} | {f"weight {w} (beyond t)" for w in range(t + 1, t + 4)}
+    if t:
+        expected |= {"parity only", "zeros data", "ones data"}
+    if hasattr(model, "decode_erasures"):
+        expected |= {"erasures", "erasures+errors", "erasures+errors (beyond)", "bad erasure list"}
     assert expected <= {k for k, n in report.cases.items() if n > 0}, report.cases

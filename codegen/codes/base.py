@@ -16,7 +16,7 @@ ERR_LENGTH = -2
 ERR_ARG = -3
 
 # Stated stack bound: per call level (return address, saved registers, scalar locals) plus local arrays.
-# tests/test_stack.py holds it against gcc -fstack-usage on the host.
+# tests/test_header_figures.py holds it against gcc -fcallgraph-info=su on the host.
 FRAME_BYTES = 96
 
 
