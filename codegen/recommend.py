@@ -114,6 +114,18 @@ def bch_parity_bits(m: int, t: int) -> int:
     return len(roots)
 
 
+def _fewest_t(failures, target: float) -> int | None:
+    """From (t, failure) pairs in increasing t: the first t that meets the target, else the t with the
+    lowest failure seen (the closest candidate); None when there are no pairs."""
+    best = None
+    for t, p in failures:
+        if best is None or p < best[1]:
+            best = (t, p)
+        if p <= target:
+            break
+    return None if best is None else best[0]
+
+
 def _bch(data_bytes: int, f: float, target: float):
     biggest = ((1 << 16) - 1 - 16 * 64) // 8         # bytes one GF(2^16) codeword holds with t = 64
     for count in splits(data_bytes, 1, math.ceil(data_bytes / biggest)):
@@ -123,22 +135,19 @@ def _bch(data_bytes: int, f: float, target: float):
         if m_min is None:
             continue
         for m in range(m_min, min(m_min + 1, 16) + 1):
-            roots: set[int] = set()
-            best = None
-            for t in range(1, MAX_BCH_T + 1):
-                i = 2 * t - 1
-                if i % ((1 << m) - 1) not in roots:
-                    roots.update(gf.cyclotomic_coset(i, m))
-                n = bits + len(roots)
-                if n > (1 << m) - 1:
-                    break
-                p = channel.repeat_failure(channel.tail(n, t, f), count)
-                if best is None or p < best[1]:
-                    best = (t, p)
-                if p <= target:
-                    break
-            if best is not None:
-                t = best[0]
+            def failures(m=m, bits=bits, count=count):
+                roots: set[int] = set()
+                for t in range(1, MAX_BCH_T + 1):
+                    i = 2 * t - 1
+                    if i % ((1 << m) - 1) not in roots:
+                        roots.update(gf.cyclotomic_coset(i, m))
+                    n = bits + len(roots)
+                    if n > (1 << m) - 1:
+                        return
+                    yield t, channel.repeat_failure(channel.tail(n, t, f), count)
+
+            t = _fewest_t(failures(), target)
+            if t is not None:
                 yield Candidate("bch", f"bch_m{m}_t{t}", {"bch": {"m": m, "t": t, "data_bits": bits}},
                                 count, chunk)
 
@@ -149,15 +158,9 @@ def _reed_solomon(data_bytes: int, f: float, target: float):
     ps = channel.symbol_error(f, m)
     for count in splits(data_bytes, 1, math.ceil(data_bytes / (order - 2))):
         k = math.ceil(data_bytes / count)
-        best = None
-        for t in range(1, (order - k) // 2 + 1):
-            p = channel.repeat_failure(channel.tail(k + 2 * t, t, ps), count)
-            if best is None or p < best[1]:
-                best = (t, p)
-            if p <= target:
-                break
-        if best is not None:
-            t = best[0]
+        t = _fewest_t(((t, channel.repeat_failure(channel.tail(k + 2 * t, t, ps), count))
+                       for t in range(1, (order - k) // 2 + 1)), target)
+        if t is not None:
             yield Candidate("reed-solomon", f"rs_n{k + 2 * t}_k{k}",
                             {"reed-solomon": {"n": k + 2 * t, "k": k, "symbol_bits": m}}, count, k)
 

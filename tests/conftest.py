@@ -30,6 +30,20 @@ def compile_model(model) -> harness.Module:
     return harness.build(model.spec.name, emit.render(model))
 
 
+def rs_toml(name: str, n: int, k: int, poly: int = 0x11D, first_root: int = 0, root_step: int = 1) -> str:
+    """Spec text of a Reed-Solomon code."""
+    return f"""[code]
+name = "{name}"
+family = "reed-solomon"
+[reed-solomon]
+n = {n}
+k = {k}
+field_poly = {poly:#x}
+first_root = {first_root}
+root_step = {root_step}
+"""
+
+
 @pytest.fixture(scope="session")
 def examples() -> list[Path]:
     return EXAMPLES

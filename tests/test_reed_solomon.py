@@ -8,7 +8,7 @@ import subprocess
 import numpy as np
 import pytest
 
-from conftest import ROOT, compile_model, make_model
+from conftest import ROOT, compile_model, make_model, rs_toml
 
 from codegen import cli, emit, harness, verify
 from codegen.codes.base import ERR_ARG, ERR_LENGTH, ERR_UNCORRECTABLE
@@ -255,16 +255,7 @@ def test_strict_clean_under_clang(profile, tmp_path):
     (255, 250, 0x11D, 300, 256),   # full length, first_root and root_step taken modulo 255
 ])
 def test_campaign_unusual_parameters(n, k, poly, first_root, root_step, profile):
-    text = f"""[code]
-name = "rs_edge"
-family = "reed-solomon"
-[reed-solomon]
-n = {n}
-k = {k}
-field_poly = {poly:#x}
-first_root = {first_root}
-root_step = {root_step}
-"""
+    text = rs_toml("rs_edge", n, k, poly, first_root, root_step)
     model = make_model(text, profile=profile)
     report = verify.campaign(model, compile_model(model), seed=8, budget=12, progress=False)
     assert report.ok, report.table()

@@ -12,35 +12,21 @@ import galois
 import numpy as np
 import pytest
 
-from conftest import compile_model, make_model
+from conftest import compile_model, make_model, rs_toml
 
 from codegen.codes.base import ERR_UNCORRECTABLE
-
-
-def _toml(name, n, k, poly, first_root, root_step):
-    return f"""[code]
-name = "{name}"
-family = "reed-solomon"
-[reed-solomon]
-n = {n}
-k = {k}
-field_poly = {poly:#x}
-first_root = {first_root}
-root_step = {root_step}
-"""
-
 
 CODES = {
     # DVB-S outer code, ETSI EN 300 421: RS(204,188, t=8), the RS(255,239) code shortened by 51 symbols,
     # field x^8+x^4+x^3+x^2+1 (0x11d), generator roots alpha^0 .. alpha^15 (first root 0).  From memory.
-    "dvbs": (_toml("dvbs", 204, 188, 0x11D, 0, 1), [188, 120, 1]),
+    "dvbs": (rs_toml("dvbs", 204, 188, 0x11D, 0, 1), [188, 120, 1]),
     # CCSDS 131.0-B: field x^8+x^7+x^2+x+1 (0x187), roots beta^112 .. beta^143 with beta = alpha^11
     # (conventional basis here; the standard's dual-basis transmission is not modelled).
-    "ccsds": (_toml("ccsds", 255, 223, 0x187, 112, 11), [223, 77, 2]),
+    "ccsds": (rs_toml("ccsds", 255, 223, 0x187, 112, 11), [223, 77, 2]),
     # short codes of our own: t = 4 with first root 1; and odd n - k = 7 with root step 7, first root 5
     # in a third field (0x12d = x^8+x^5+x^3+x^2+1, primitive: checked by the model and by galois here)
-    "short": (_toml("short_code", 28, 20, 0x11D, 1, 1), [20, 9, 1]),
-    "odd": (_toml("odd", 40, 33, 0x12D, 5, 7), [33, 16, 3]),
+    "short": (rs_toml("short_code", 28, 20, 0x11D, 1, 1), [20, 9, 1]),
+    "odd": (rs_toml("odd", 40, 33, 0x12D, 5, 7), [33, 16, 3]),
 }
 
 
