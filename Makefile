@@ -18,7 +18,7 @@ $(VENV)/.installed: pyproject.toml | $(BIN)/python
 	touch $@
 
 $(VENV)/.installed-test: pyproject.toml | $(BIN)/python
-	$(BIN)/python -m pip install --quiet -e '.[test,plot]'
+	$(BIN)/python -m pip install --quiet -e '.[test]'
 	touch $@ $(VENV)/.installed
 
 generate: $(VENV)/.installed
