@@ -62,20 +62,23 @@ def cmd_verify(args) -> int:
 
 
 def cmd_analyze(args) -> int:
-    from . import analysis
-    spec = specmod.load(args.spec)
-    result = analysis.run(spec, args.flip_prob, trials=args.simulate, seed=args.seed, plot_file=args.plot)
-    print(analysis.table(result))
+    from .channels import analysis, make, study
+    specs = _load_specs(args.specs)
+    results = study.run(specs, make("bsc", args.flip_prob), trials=args.simulate, seed=args.seed,
+                        plot_file=args.plot)
+    print("\n\n".join(analysis.table(r) for r in results))
     if args.plot:
         print(f"wrote {args.plot}")
     if args.json:
-        emit.write_atomic(Path(args.json), json.dumps(result, indent=2) + "\n")
+        data = results[0] if len(results) == 1 else results
+        emit.write_atomic(Path(args.json), json.dumps(data, indent=2) + "\n")
     return EXIT_OK
 
 
 def cmd_recommend(args) -> int:
-    from . import recommend
-    outcome = recommend.search(args.data_bytes, args.flip_prob, args.target, args.families, args.profile)
+    from .channels import make, recommend
+    outcome = recommend.search(args.data_bytes, make("bsc", args.flip_prob), args.target, args.families,
+                               args.profile)
     print(recommend.table(outcome))
     if args.json:
         emit.write_atomic(Path(args.json), json.dumps(outcome.as_dict(), indent=2) + "\n")
@@ -131,7 +134,7 @@ def parser() -> argparse.ArgumentParser:
     v.set_defaults(func=cmd_verify)
 
     a = sub.add_parser("analyze", help="what the code buys on a binary symmetric channel")
-    a.add_argument("spec", metavar="SPEC")
+    a.add_argument("specs", nargs="+", metavar="SPEC")
     a.add_argument("--flip-prob", type=float, required=True, metavar="F",
                    help="probability that the channel flips a bit, in (0, 0.5)")
     a.add_argument("--simulate", type=int, metavar="N",

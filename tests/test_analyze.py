@@ -8,7 +8,8 @@ from pathlib import Path
 import numpy as np
 import pytest
 
-from codegen import analysis, cli, simulate
+from codegen import cli
+from codegen.channels import BSC, analysis, simulate
 from codegen.emit import environment
 from conftest import EXAMPLES, ROOT, make_model, make_spec
 
@@ -82,7 +83,7 @@ def _check_against_scipy(result, n, k, t, n_bits, fail):
 
 @pytest.mark.parametrize("f", [1e-4, 1e-3, 1e-2])
 def test_secded_72_64_against_scipy(f):
-    r = analysis.analyze(make_model(SECDED_72_64), f)
+    r = analysis.analyze(make_model(SECDED_72_64), BSC(f))
     # (72,64) SECDED fails with 2 or more of 72 bits flipped: scipy.stats.binom.sf(1, 72, f)
     _check_against_scipy(r, 72, 64, 1, 72, stats.binom.sf(1, 72, f))
     assert r["detected"] + r["undetected"] == pytest.approx(r["block_failure"], rel=1e-9)
@@ -91,7 +92,7 @@ def test_secded_72_64_against_scipy(f):
 
 @pytest.mark.parametrize("f", [1e-4, 1e-3, 3e-3])
 def test_bch_m13_t8_page_against_scipy(f):
-    r = analysis.analyze(_family_model(BCH_PAGE, "codegen.codes.bch"), f)
+    r = analysis.analyze(_family_model(BCH_PAGE, "codegen.codes.bch"), BSC(f))
     # deg g = 8 * 13 = 104 for t = 8 over GF(2^13): the cosets of 1, 3, ..., 15 are distinct, 13 each
     # (common practice, no source); failure = scipy.stats.binom.sf(8, 4200, f)
     _check_against_scipy(r, 4200, 4096, 8, 4200, stats.binom.sf(8, 4200, f))
@@ -99,7 +100,7 @@ def test_bch_m13_t8_page_against_scipy(f):
 
 @pytest.mark.parametrize("f", [1e-4, 1e-3, 5e-3])
 def test_rs_204_188_against_scipy(f):
-    r = analysis.analyze(_family_model(RS_204_188, "codegen.codes.reed_solomon"), f)
+    r = analysis.analyze(_family_model(RS_204_188, "codegen.codes.reed_solomon"), BSC(f))
     ps = stats.binom.sf(0, 8, f)            # a byte holds at least one flipped bit
     # more than 8 of 204 symbols wrong: scipy.stats.binom.sf(8, 204, ps); 1632 channel bits
     _check_against_scipy(r, 204, 188, 8, 1632, stats.binom.sf(8, 204, ps))
@@ -107,7 +108,7 @@ def test_rs_204_188_against_scipy(f):
 
 
 def test_crc_repetition_figures():
-    r = analysis.analyze(make_model(SOIL), 1e-3)
+    r = analysis.analyze(make_model(SOIL), BSC(1e-3))
     assert r["family"] == "crc-repetition" and r["t"] == 2
     # both simple bounds from scipy: the joint failure is below P(vote block wrong) and P(all copies damaged)
     bits = 8 * (24 + 2)
@@ -131,9 +132,9 @@ SIM_CASES = [
 def test_simulated_interval_holds_exact_value(label, text, module, f):
     model = _family_model(text, module) if module else make_model(text)
     _needs_c(model)
-    exact = analysis.block_failure(model, f)
+    exact = analysis.block_failure(model, BSC(f))
     assert 0.05 < exact < 0.6                       # failures are common here: the check has teeth
-    res = simulate.run(model.spec, f, 2000, seed=7, progress=False)
+    res = simulate.run(model.spec, BSC(f), 2000, seed=7, progress=False)
     lo, hi = res.ci95
     assert res.trials == 2000
     assert lo <= exact <= hi, (res, exact)
@@ -142,9 +143,9 @@ def test_simulated_interval_holds_exact_value(label, text, module, f):
 
 def test_simulation_is_deterministic_and_worker_independent():
     spec = make_spec(SOIL, "soil.toml")
-    a = simulate.run(spec, 0.03, 600, seed=11, workers=1, progress=False)
-    b = simulate.run(spec, 0.03, 600, seed=11, workers=2, progress=False)
-    c = simulate.run(spec, 0.03, 600, seed=12, workers=2, progress=False)
+    a = simulate.run(spec, BSC(0.03), 600, seed=11, workers=1, progress=False)
+    b = simulate.run(spec, BSC(0.03), 600, seed=11, workers=2, progress=False)
+    c = simulate.run(spec, BSC(0.03), 600, seed=12, workers=2, progress=False)
     assert a == b                   # same seed: same counts, however many workers ran the chunks
     assert a.failures > 0
     assert a != c                   # another seed: other trials (fixed seeds, so this cannot flake)
@@ -152,14 +153,14 @@ def test_simulation_is_deterministic_and_worker_independent():
 
 def test_simulated_secded_split_holds_the_exact_split():
     # the C's flagged and silently wrong decodes against analyze's exact split
-    from codegen import channel
+    from codegen.channels.base import wilson_interval
     model = make_model(SECDED_72_64)
     f = 0.01
-    r = analysis.analyze(model, f)
-    res = simulate.run(model.spec, f, 3000, seed=5, progress=False)
-    lo, hi = channel.wilson_interval(res.detected, res.trials)
+    r = analysis.analyze(model, BSC(f))
+    res = simulate.run(model.spec, BSC(f), 3000, seed=5, progress=False)
+    lo, hi = wilson_interval(res.detected, res.trials)
     assert lo <= r["detected"] <= hi
-    lo, hi = channel.wilson_interval(res.undetected, res.trials)
+    lo, hi = wilson_interval(res.undetected, res.trials)
     assert lo <= r["undetected"] <= hi
     assert res.undetected > 10
 
@@ -198,10 +199,11 @@ def test_cli_simulate_and_plot_png(tmp_path, capsys):
 
 
 def test_plot_svg(tmp_path):
-    from codegen import plot
+    from codegen.channels import figures, plot
     model = make_model(SECDED_72_64)
     out = tmp_path / "fig.svg"
-    plot.write(out, model, analysis.analyze(model, 1e-3))
+    ch = BSC(1e-3)
+    plot.write(out, figures.compute([(model, analysis.analyze(model, ch), [])], ch))
     text = out.read_text()
     assert "<svg" in text and text.rstrip().endswith("</svg>")
 
@@ -241,7 +243,7 @@ def test_every_example_analyzes(spec):
     from codegen import spec as specmod
     from codegen.codes import build
     model = build(specmod.load(spec))
-    r = analysis.analyze(model, 1e-3)
+    r = analysis.analyze(model, BSC(1e-3))
     assert 0.0 <= r["block_failure"] <= 1.0
     assert r["capacity"] == pytest.approx(_capacity(1e-3), rel=1e-13)
     table = analysis.table(r)

@@ -1,4 +1,4 @@
-"""codegen.channel against outside references: scipy.stats (binom, norm, binomtest), brute-force
+"""codegen.channels.bsc against outside references: scipy.stats (binom, norm, binomtest), brute-force
 enumeration of small channels, and the usual textbook values of the binary entropy."""
 from __future__ import annotations
 
@@ -8,7 +8,8 @@ import math
 import numpy as np
 import pytest
 
-from codegen import channel
+from codegen.channels import bsc as channel
+from codegen.channels.base import wilson_interval
 
 stats = pytest.importorskip("scipy.stats")
 
@@ -175,7 +176,7 @@ def _hamming(k: int, secded: bool):
 
 
 def _columns(model) -> list[int]:
-    from codegen.analysis import parity_check_columns
+    from codegen.channels.analysis import parity_check_columns
     return parity_check_columns(model)
 
 
@@ -264,6 +265,6 @@ def test_normal_approximation_tends_to_capacity():
 def test_wilson_against_scipy(k, n):
     # scipy.stats.binomtest(...).proportion_ci(method="wilson")
     ci = stats.binomtest(k, n).proportion_ci(confidence_level=0.95, method="wilson")
-    lo, hi = channel.wilson_interval(k, n)
+    lo, hi = wilson_interval(k, n)
     assert lo == pytest.approx(ci.low, abs=1e-12)
     assert hi == pytest.approx(ci.high, abs=1e-12)

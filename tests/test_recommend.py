@@ -8,7 +8,8 @@ import tomllib
 
 import pytest
 
-from codegen import cli, emit, recommend, spec as specmod
+from codegen import cli, emit, spec as specmod
+from codegen.channels import BSC, recommend
 from codegen.codes import build
 
 stats = pytest.importorskip("scipy.stats")
@@ -18,7 +19,7 @@ F, TARGET, DATA = 1e-3, 1e-12, 512
 
 @pytest.fixture(scope="module")
 def outcome():
-    return recommend.search(DATA, F, TARGET)
+    return recommend.search(DATA, BSC(F), TARGET)
 
 
 def _independent_failure(c: recommend.Candidate, f: float) -> float | None:
@@ -105,7 +106,7 @@ def test_bch_parity_bits_match_the_model():
 
 def test_nothing_meets_the_target_lists_the_closest(capsys):
     # Hamming codes correct one bit per word: no split reaches 1e-12 at f = 1e-3
-    out = recommend.search(DATA, F, TARGET, families=["hamming"])
+    out = recommend.search(DATA, BSC(F), TARGET, families=["hamming"])
     assert not out.candidates and out.closest
     fails = [c.block_failure for c in out.closest]
     assert fails == sorted(fails) and all(x > TARGET for x in fails)
@@ -147,7 +148,7 @@ def test_cli_json_and_write(tmp_path, capsys):
 
 def test_written_bch_spec_generates(tmp_path):
     pytest.importorskip("codegen.codes.bch")
-    out = recommend.search(DATA, F, TARGET, families=["bch"])
+    out = recommend.search(DATA, BSC(F), TARGET, families=["bch"])
     path = tmp_path / "best.toml"
     emit.write_atomic(path, recommend.spec_text(out.best, out))
     spec = specmod.load(path)

@@ -1,7 +1,7 @@
-"""What one code buys on a binary symmetric channel: the figures `bitmend analyze` prints.
+"""What one code buys on a channel: the figures `bitmend analyze` prints.
 
-Built from a code model's `properties` (n, k, t, unit_bits, parity and table bytes) and its family name,
-which chooses the failure formula of codegen.channel:
+Built from a code model's `properties` (n, k, t, unit_bits, parity and table bytes), its family name,
+which chooses the failure formula, and a channel model (codegen.channels.base.Channel):
 - "bch", "hamming" (SEC): bounded distance over bits, P(more than t of n bits flipped);
 - "hamming" with secded: the same failure, split into detected and undetected;
 - "reed-solomon": bounded distance over symbols of m = unit_bits bits, each wrong with 1 - (1 - f)^m;
@@ -12,8 +12,9 @@ from __future__ import annotations
 
 import math
 
-from . import channel
-from .codes.base import CodeModel
+from ..codes.base import CodeModel
+from . import bsc
+from .base import Channel
 
 
 def _family(model: CodeModel) -> str:
@@ -35,16 +36,17 @@ def channel_bits(model: CodeModel) -> int:
     return p.n * p.unit_bits
 
 
-def failure(model: CodeModel, f: float) -> dict:
-    """Block failure (one codeword) at flip probability f, with the family's extra figures."""
+def failure(model: CodeModel, ch: Channel) -> dict:
+    """Block failure (one codeword) on channel `ch`, with the family's extra figures."""
     p = model.properties
+    f = ch.flip_prob
     family = _family(model)
     out: dict = {}
     if family == "crc-repetition":
         rep = model.spec.table("repetition")
         width = model.spec.table("crc").width
         block_bits = p.n // rep.copies
-        r = channel.crc_repetition(rep.copies, block_bits, width, f)
+        r = bsc.crc_repetition(rep.copies, block_bits, width, f)
         out["block_failure"] = r["block_failure"]
         out["crc_undetected_estimate"] = r["crc_undetected"]
         out["vote_bit_error"] = r["vote_bit_error"]
@@ -55,27 +57,27 @@ def failure(model: CodeModel, f: float) -> dict:
                                 "as 2^-width per damaged block checked")
         return out
     if p.unit_bits > 1 or family == "reed-solomon":
-        ps = channel.symbol_error(f, p.unit_bits)
+        ps = ch.unit_error(p.unit_bits)
         out["symbol_error"] = ps
-        out["block_failure"] = channel.bounded_distance_failure(p.n, p.t, ps)
-        ser = channel.post_decoding_ber(p.n, p.t, ps)
+        out["block_failure"] = ch.units_failure(p.n, p.unit_bits, p.t)
+        ser = bsc.post_decoding_ber(p.n, p.t, ps)
         # a wrong symbol holds m f / ps wrong bits on average, out of m
         out["post_decoding_ber"] = ser * f / ps if ps else 0.0
         out["failure_model"] = f"more than t of n symbols wrong, symbol error 1-(1-f)^{p.unit_bits}"
         return out
-    out["block_failure"] = channel.bounded_distance_failure(p.n, p.t, f)
-    out["post_decoding_ber"] = channel.post_decoding_ber(p.n, p.t, f)
+    out["block_failure"] = ch.units_failure(p.n, 1, p.t)
+    out["post_decoding_ber"] = bsc.post_decoding_ber(p.n, p.t, f)
     out["failure_model"] = "more than t of n bits flipped"
     if family == "hamming":
         columns = parity_check_columns(model)
         if columns is not None:
-            s = channel.syndrome_split(columns, len(model.H), f, _is_secded(model))
+            s = bsc.syndrome_split(columns, len(model.H), f, _is_secded(model))
             out["detected"] = s["detected"]
             out["undetected"] = s["undetected"]
             out["split_model"] = (f"exact over the code's parity-check columns for up to "
                                   f"{s['exact_weights']} errors")
         elif _is_secded(model):
-            s = channel.secded_split(p.n, f)
+            s = bsc.secded_split(p.n, f)
             out["detected"] = s["detected"]
             out["undetected"] = s["undetected"]
             out["split_model"] = ("detected = even counts >= 2, undetected = odd counts >= 3 "
@@ -92,25 +94,25 @@ def parity_check_columns(model) -> list[int] | None:
     return [sum(int(H[i][j]) << (rows - 1 - i) for i in range(rows)) for j in range(len(H[0]))]
 
 
-def block_failure(model: CodeModel, f: float) -> float:
-    return failure(model, f)["block_failure"]
+def block_failure(model: CodeModel, ch: Channel) -> float:
+    return failure(model, ch)["block_failure"]
 
 
-def analyze(model: CodeModel, f: float) -> dict:
+def analyze(model: CodeModel, ch: Channel) -> dict:
     """The analyze figures as a JSON-ready dict (n, k, t in the code's units: symbols for RS)."""
-    if not 0.0 < f < 0.5:
-        raise ValueError(f"flip probability must be in (0, 0.5) (got {f})")
+    f = ch.flip_prob
     p = model.properties
     bits = channel_bits(model)
-    cap = channel.capacity(f)
-    fail = failure(model, f)
+    cap = bsc.capacity(f)
+    fail = failure(model, ch)
     eps = fail["block_failure"]
-    fl = channel.normal_approx_rate(bits, f, eps)
+    fl = bsc.normal_approx_rate(bits, f, eps)
     out = {
         "name": model.spec.name,
         "family": _family(model),
         "profile": model.spec.profile,
         "flip_prob": f,
+        **ch.params(),
         "n": p.n,
         "k": p.k,
         "t": p.t,
@@ -140,6 +142,11 @@ def _fmt(x) -> str:
             return "0"
         return f"{x:.4g}" if 1e-3 <= abs(x) < 1e4 else f"{x:.3e}"
     return str(x)
+
+
+def channel_words(result: dict) -> str:
+    """The channel of a result in words, from its JSON fields."""
+    return f"a binary symmetric channel, flip probability {result['flip_prob']:g}"
 
 
 def table(result: dict) -> str:
@@ -176,57 +183,6 @@ def table(result: dict) -> str:
                      f"({result['simulated_failures']}/{result['simulated_trials']}, "
                      f"95% [{_fmt(lo)}, {_fmt(hi)}])"))
         rows.append(("exact inside 95%", "yes" if lo <= result["block_failure"] <= hi else "NO"))
-    head = (f"{result['name']} ({result['family']}) on a binary symmetric channel, "
-            f"flip probability {result['flip_prob']:g}")
+    head = f"{result['name']} ({result['family']}) on {channel_words(result)}"
     width = max(len(r[0]) for r in rows)
     return "\n".join([head] + [f"  {k:<{width}}  {v}" for k, v in rows])
-
-
-def flip_range(f: float, points: int = 60) -> list[float]:
-    """Flip probabilities for a failure curve around f: two decades below to 30x above (at most 0.45)."""
-    lo = f / 100.0
-    hi = min(0.45, f * 30.0)
-    if hi <= lo:
-        hi = lo * 10
-    step = (math.log10(hi) - math.log10(lo)) / (points - 1)
-    return [10 ** (math.log10(lo) + i * step) for i in range(points)]
-
-
-def failure_curve(model: CodeModel, fs: list[float]) -> list[float]:
-    return [block_failure(model, f) for f in fs]
-
-
-def simulation_points(model, f: float, most: int = 3) -> list[float]:
-    """Extra flip probabilities for the plot where failures are common enough for a small simulation
-    to show something: exact failure between 1 % and 60 %, spread over the range."""
-    fr = flip_range(f, 40)
-    usable = [x for x, p in zip(fr, failure_curve(model, fr)) if 0.01 <= p <= 0.6 and x != f]
-    if len(usable) <= most:
-        return usable
-    step = (len(usable) - 1) / (most - 1)
-    return [usable[round(i * step)] for i in range(most)]
-
-
-def run(spec, f: float, trials: int | None = None, seed: int = 1, plot_file=None) -> dict:
-    """What `bitmend analyze` does: the figures, optionally a simulation through the compiled C (and, for
-    the plot, a few smaller ones where failures are common) and the figure file."""
-    from .codes import build
-    model = build(spec)
-    result = analyze(model, f)
-    simulated = []
-    if trials:
-        from . import simulate
-        sim = simulate.run(spec, f, trials, seed=seed)
-        result.update(sim.as_dict())
-        simulated.append({"flip_prob": f, **sim.as_dict()})
-        if plot_file:
-            extra = []
-            for i, x in enumerate(simulation_points(model, f)):
-                s = simulate.run(spec, x, max(500, trials // 4), seed=seed + 1 + i, label=f"{spec.name} f={x:.3g}")
-                extra.append({"flip_prob": x, "block_failure": block_failure(model, x), **s.as_dict()})
-            simulated.extend(extra)
-            result["simulated_points"] = extra
-    if plot_file:
-        from . import plot
-        plot.write(plot_file, model, result, simulated)
-    return result

@@ -1,7 +1,8 @@
-"""Monte Carlo check of the channel maths: random BSC trials through the compiled generated C.
+"""Monte Carlo check of the channel maths: random channel trials through the compiled generated C.
 
-Each trial encodes random data with the C, flips every transmitted bit independently with probability f
-(the code's bits only: the zero padding of the byte packing carries nothing and is not sent), decodes
+Each trial encodes random data with the C, draws the channel (codegen.channels.base.Channel.flip_positions)
+over the transmitted bits (the code's bits only: the zero padding of the byte packing carries nothing and
+is not sent), flips them, decodes
 with the C and counts a failure when decode returns a negative value or returns data other than what
 was encoded.  The trials run in chunks of fixed size with one seed each (numpy SeedSequence.spawn), so the
 counts depend on the seed only, not on how many worker processes ran them.  Each worker builds (or loads
@@ -16,9 +17,9 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from . import channel
-from .codes import build
-from .spec import Spec
+from ..codes import build
+from ..spec import Spec
+from .base import Channel, wilson_interval
 
 CHUNK = 250                 # trials per task
 
@@ -36,7 +37,7 @@ class Result:
 
     @property
     def ci95(self) -> tuple[float, float]:
-        return channel.wilson_interval(self.failures, self.trials)
+        return wilson_interval(self.failures, self.trials)
 
     def as_dict(self) -> dict:
         lo, hi = self.ci95
@@ -53,8 +54,8 @@ def channel_positions(model) -> np.ndarray:
 
 
 def _run_chunk(task) -> tuple[int, int, int]:
-    spec, f, seed_seq, count = task
-    from . import verify             # worker side: build or load the cached module here
+    spec, ch, seed_seq, count = task
+    from .. import verify            # worker side: build or load the cached module here
     model = build(spec)
     module = verify.module_for(model)
     rng = np.random.default_rng(seed_seq)
@@ -67,10 +68,10 @@ def _run_chunk(task) -> tuple[int, int, int]:
         rc, parity = module.encode(data, plen)
         if rc != 0:
             raise RuntimeError(f"{spec.name}_encode returned {rc}")
-        flips = int(rng.binomial(len(positions), f))
+        hit = ch.flip_positions(rng, len(positions))
         frame = np.frombuffer(data + parity, dtype=np.uint8).copy()
-        if flips:
-            pos = positions[rng.choice(len(positions), flips, replace=False)]
+        if len(hit):
+            pos = positions[hit]
             np.bitwise_xor.at(frame, pos // 8, (0x80 >> (pos % 8)).astype(np.uint8))
         raw = frame.tobytes()
         rc, got, _ = module.decode(raw[:n], raw[n:])
@@ -85,18 +86,18 @@ def _interactive() -> bool:
     return sys.stderr.isatty() and not os.environ.get("CI")
 
 
-def run(spec: Spec, f: float, trials: int, seed: int = 1, workers: int | None = None,
+def run(spec: Spec, ch: Channel, trials: int, seed: int = 1, workers: int | None = None,
         progress: bool | None = None, label: str = "") -> Result:
-    """`trials` random channel trials of the spec's compiled C at flip probability f."""
+    """`trials` random trials of the spec's compiled C on channel `ch`."""
     if trials < 1:
         raise ValueError("trials must be at least 1")
     sizes = [CHUNK] * (trials // CHUNK) + ([trials % CHUNK] if trials % CHUNK else [])
     seeds = np.random.SeedSequence([seed, 0x5EED]).spawn(len(sizes))
-    tasks = [(spec, f, s, c) for s, c in zip(seeds, sizes)]
+    tasks = [(spec, ch, s, c) for s, c in zip(seeds, sizes)]
     show = _interactive() if progress is None else progress
     workers = workers or min(os.cpu_count() or 1, len(tasks))
     # compile (or load) once here first, so the workers find the module in the cache
-    from . import verify
+    from .. import verify
     verify.module_for(build(spec))
     done = det = und = 0
 

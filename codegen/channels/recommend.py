@@ -1,7 +1,7 @@
 """Code choice: which configuration of which family protects N data bytes to a target failure at the
-least cost, on a binary symmetric channel with flip probability f.
+least cost, on a channel (codegen.channels.base.Channel).
 
-Per family a fast search (closed-form sizes and codegen.channel) finds, for each way of splitting the
+Per family a fast search (closed-form sizes and the channel's failure figures) finds, for each way of splitting the
 data over codewords, the weakest configuration that meets the target.  Each of those finalists is then
 built as a real spec (codegen.spec.parse) and a real model (codegen.codes.build), and judged again from
 the model's own figures: parity bytes, table bytes and the block failure of codegen.analysis.  "Block
@@ -15,9 +15,11 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass, field
 
-from . import analysis, channel, gf
-from .codes import build
-from .spec import FAMILIES, PROFILES, SpecError, parse
+from .. import gf
+from ..codes import build
+from ..spec import FAMILIES, PROFILES, SpecError, parse
+from . import analysis, bsc
+from .base import Channel
 
 # CRCs offered with repetition (catalogue parameters; CRC-16/KERMIT and CRC-32 as in the examples)
 CRCS = {
@@ -93,7 +95,7 @@ def splits(data_bytes: int, smallest_chunk: int = 1, fewest: int = 1) -> list[in
 
 # -- fast per-family searches: yield Candidates (not yet built) --------------------------------------------
 
-def _hamming(data_bytes: int, f: float, target: float):
+def _hamming(data_bytes: int, ch: Channel, target: float):
     for chunk in (1, 2, 4, 8, 16, 32, 64, 128):
         if chunk > data_bytes and chunk > 1:
             break
@@ -126,7 +128,7 @@ def _fewest_t(failures, target: float) -> int | None:
     return None if best is None else best[0]
 
 
-def _bch(data_bytes: int, f: float, target: float):
+def _bch(data_bytes: int, ch: Channel, target: float):
     biggest = ((1 << 16) - 1 - 16 * 64) // 8         # bytes one GF(2^16) codeword holds with t = 64
     for count in splits(data_bytes, 1, math.ceil(data_bytes / biggest)):
         chunk = math.ceil(data_bytes / count)
@@ -144,7 +146,7 @@ def _bch(data_bytes: int, f: float, target: float):
                     n = bits + len(roots)
                     if n > (1 << m) - 1:
                         return
-                    yield t, channel.repeat_failure(channel.tail(n, t, f), count)
+                    yield t, bsc.repeat_failure(ch.units_failure(n, 1, t), count)
 
             t = _fewest_t(failures(), target)
             if t is not None:
@@ -152,28 +154,27 @@ def _bch(data_bytes: int, f: float, target: float):
                                 count, chunk)
 
 
-def _reed_solomon(data_bytes: int, f: float, target: float):
+def _reed_solomon(data_bytes: int, ch: Channel, target: float):
     m = 8
     order = (1 << m) - 1
-    ps = channel.symbol_error(f, m)
     for count in splits(data_bytes, 1, math.ceil(data_bytes / (order - 2))):
         k = math.ceil(data_bytes / count)
-        t = _fewest_t(((t, channel.repeat_failure(channel.tail(k + 2 * t, t, ps), count))
+        t = _fewest_t(((t, bsc.repeat_failure(ch.units_failure(k + 2 * t, m, t), count))
                        for t in range(1, (order - k) // 2 + 1)), target)
         if t is not None:
             yield Candidate("reed-solomon", f"rs_n{k + 2 * t}_k{k}",
                             {"reed-solomon": {"n": k + 2 * t, "k": k, "symbol_bits": m}}, count, k)
 
 
-def _crc_repetition(data_bytes: int, f: float, target: float):
+def _crc_repetition(data_bytes: int, ch: Channel, target: float):
     for width, crc in CRCS.items():
         for count in splits(data_bytes, 4, math.ceil(data_bytes / 65535)):
             chunk = math.ceil(data_bytes / count)
             block_bits = 8 * (chunk + (width + 7) // 8)
             best = None
             for copies in range(1, MAX_COPIES + 1):
-                r = channel.crc_repetition(copies, block_bits, width, f)
-                p = channel.repeat_failure(min(1.0, r["block_failure"] + r["crc_undetected"]), count)
+                r = bsc.crc_repetition(copies, block_bits, width, ch.flip_prob)
+                p = bsc.repeat_failure(min(1.0, r["block_failure"] + r["crc_undetected"]), count)
                 if best is None or p < best[1]:
                     best = (copies, p)
                 if p <= target:
@@ -190,11 +191,11 @@ SEARCHES = {"hamming": _hamming, "bch": _bch, "reed-solomon": _reed_solomon,
 
 # -- judging with the real models ----------------------------------------------------------------------
 
-def _judge(c: Candidate, f: float, profile: str) -> Candidate:
+def _judge(c: Candidate, ch: Channel, profile: str) -> Candidate:
     spec = parse(c.doc(profile), f"{c.name}.toml")
     model = build(spec)
     p = model.properties
-    fig = analysis.failure(model, f)
+    fig = analysis.failure(model, ch)
     one = fig["block_failure"]
     if "crc_undetected_estimate" in fig:
         one = min(1.0, one + fig["crc_undetected_estimate"])
@@ -204,7 +205,7 @@ def _judge(c: Candidate, f: float, profile: str) -> Candidate:
     if c.codewords > 1:
         c.notes.append(f"data split over {c.codewords} codewords of {c.chunk_bytes} bytes")
     c.codeword_failure = one
-    c.block_failure = channel.repeat_failure(one, c.codewords)
+    c.block_failure = bsc.repeat_failure(one, c.codewords)
     c.parity_bytes = c.codewords * model.parity_len(c.chunk_bytes)
     c.table_bytes = p.table_bytes
     c.n, c.k, c.t, c.unit_bits, c.rate = p.n, p.k, p.t, p.unit_bits, p.rate
@@ -214,7 +215,7 @@ def _judge(c: Candidate, f: float, profile: str) -> Candidate:
 @dataclass
 class Outcome:
     data_bytes: int
-    flip_prob: float
+    channel: Channel
     target: float
     candidates: list            # meeting the target, best first
     closest: list               # when none meets it: the lowest failures
@@ -224,19 +225,22 @@ class Outcome:
     def best(self) -> Candidate | None:
         return self.candidates[0] if self.candidates else None
 
+    @property
+    def flip_prob(self) -> float:
+        return self.channel.flip_prob
+
     def as_dict(self) -> dict:
-        return {"data_bytes": self.data_bytes, "flip_prob": self.flip_prob, "target": self.target,
+        return {"data_bytes": self.data_bytes, "flip_prob": self.flip_prob, **self.channel.params(),
+                "target": self.target,
                 "met": bool(self.candidates),
                 "candidates": [c.as_dict() for c in self.candidates],
                 "closest": [c.as_dict() for c in self.closest], "skipped": self.skipped}
 
 
-def search(data_bytes: int, f: float, target: float, families: list[str] | None = None,
+def search(data_bytes: int, ch: Channel, target: float, families: list[str] | None = None,
            profile: str = "fast", closest: int = 5) -> Outcome:
     if data_bytes <= 0:
         raise ValueError(f"data bytes must be positive (got {data_bytes})")
-    if not 0.0 < f < 0.5:
-        raise ValueError(f"flip probability must be in (0, 0.5) (got {f})")
     if not 0.0 < target < 1.0:
         raise ValueError(f"target must be in (0, 1) (got {target})")
     if profile not in PROFILES:
@@ -246,13 +250,13 @@ def search(data_bytes: int, f: float, target: float, families: list[str] | None 
         if family not in FAMILIES:
             raise ValueError(f"unknown family {family!r}")
         seen = set()
-        for cand in SEARCHES[family](data_bytes, f, target):
+        for cand in SEARCHES[family](data_bytes, ch, target):
             key = (cand.name, cand.codewords)
             if key in seen:
                 continue
             seen.add(key)
             try:
-                judged.append(_judge(cand, f, profile))
+                judged.append(_judge(cand, ch, profile))
             except ModuleNotFoundError as err:
                 skipped[family] = f"model not available ({err.name})"
                 break
@@ -261,7 +265,7 @@ def search(data_bytes: int, f: float, target: float, families: list[str] | None 
     order = lambda c: (c.parity_bytes, c.table_bytes, c.block_failure)  # noqa: E731
     meeting = sorted((c for c in judged if c.block_failure <= target), key=order)
     near = [] if meeting else sorted(judged, key=lambda c: (c.block_failure, c.parity_bytes))[:closest]
-    return Outcome(data_bytes, f, target, meeting, near, skipped)
+    return Outcome(data_bytes, ch, target, meeting, near, skipped)
 
 
 def _fmt(x: float) -> str:

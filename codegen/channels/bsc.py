@@ -24,6 +24,8 @@ from statistics import NormalDist
 
 import numpy as np
 
+from .base import Channel
+
 LN2 = math.log(2.0)
 _WINDOW_SIGMAS = 40         # terms beyond the mode + 40 standard deviations weigh < e^-800 of the peak
 _WINDOW_EXTRA = 60          # plus a fixed margin for the Poisson-like regime (small n*p)
@@ -381,17 +383,24 @@ def normal_approx_rate(n: int, f: float, eps: float) -> float:
     return capacity(f) - math.sqrt(dispersion(f) / n) * qinv(eps) + math.log2(n) / (2.0 * n)
 
 
-# -- confidence intervals -------------------------------------------------------------------------------
+# -- the channel ------------------------------------------------------------------------------------------
 
-Z95 = NormalDist().inv_cdf(0.975)
+class BSC(Channel):
+    """The binary symmetric channel: every bit flips independently with probability flip_prob."""
 
+    kind = "bsc"
 
-def wilson_interval(failures: int, trials: int, z: float = Z95) -> tuple[float, float]:
-    """Wilson score interval for a binomial proportion (95 % by default)."""
-    if trials <= 0:
-        return (0.0, 1.0)
-    phat = failures / trials
-    denom = 1.0 + z * z / trials
-    centre = (phat + z * z / (2 * trials)) / denom
-    half = z * math.sqrt(phat * (1 - phat) / trials + z * z / (4 * trials * trials)) / denom
-    return (max(0.0, centre - half), min(1.0, centre + half))
+    def at(self, flip_prob: float) -> "BSC":
+        return BSC(flip_prob)
+
+    def unit_error(self, unit_bits: int) -> float:
+        return symbol_error(self.flip_prob, unit_bits)
+
+    def units_failure(self, n: int, unit_bits: int, t: int) -> float:
+        return bounded_distance_failure(n, t, self.unit_error(unit_bits))
+
+    def flip_positions(self, rng: np.random.Generator, bits: int) -> np.ndarray:
+        flips = int(rng.binomial(bits, self.flip_prob))
+        if not flips:
+            return np.zeros(0, dtype=np.int64)
+        return rng.choice(bits, flips, replace=False)

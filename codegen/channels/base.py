@@ -1,0 +1,57 @@
+"""The interface every channel model gives to analysis, simulation and recommend, and the statistics
+they share.
+
+A channel flips bits of a stream; `flip_prob` is its long-run average flip probability.  A code sees
+it through units (bits, or symbols of m bits): a unit is in error when any of its bits is flipped.
+"""
+from __future__ import annotations
+
+import math
+from abc import ABC, abstractmethod
+from statistics import NormalDist
+
+import numpy as np
+
+
+class Channel(ABC):
+    kind: str
+
+    def __init__(self, flip_prob: float):
+        if not 0.0 < flip_prob < 0.5:
+            raise ValueError(f"flip probability must be in (0, 0.5) (got {flip_prob})")
+        self.flip_prob = flip_prob
+
+    @abstractmethod
+    def at(self, flip_prob: float) -> "Channel":
+        """The same kind of channel, every other parameter kept, at another average flip probability."""
+
+    @abstractmethod
+    def unit_error(self, unit_bits: int) -> float:
+        """Chance that one unit of `unit_bits` consecutive bits holds at least one flip."""
+
+    @abstractmethod
+    def units_failure(self, n: int, unit_bits: int, t: int) -> float:
+        """P(more than t of n consecutive units of `unit_bits` bits are in error): the exact failure of a
+        bounded-distance decoder correcting t units."""
+
+    @abstractmethod
+    def flip_positions(self, rng: np.random.Generator, bits: int) -> np.ndarray:
+        """One random draw of the channel over `bits` consecutive bits: the indices of the flipped ones."""
+
+    def params(self) -> dict:
+        """What names this channel in the JSON (besides flip_prob)."""
+        return {"channel": self.kind}
+
+
+Z95 = NormalDist().inv_cdf(0.975)
+
+
+def wilson_interval(failures: int, trials: int, z: float = Z95) -> tuple[float, float]:
+    """Wilson score interval for a binomial proportion (95 % by default)."""
+    if trials <= 0:
+        return (0.0, 1.0)
+    phat = failures / trials
+    denom = 1.0 + z * z / trials
+    centre = (phat + z * z / (2 * trials)) / denom
+    half = z * math.sqrt(phat * (1 - phat) / trials + z * z / (4 * trials * trials)) / denom
+    return (max(0.0, centre - half), min(1.0, centre + half))

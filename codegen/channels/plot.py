@@ -1,0 +1,92 @@
+"""Rendering of the figures computed by codegen.channels.figures (matplotlib, Agg backend): PNG or SVG,
+chosen by the file's extension.  No channel or code maths here: every number drawn comes from the
+figure data."""
+from __future__ import annotations
+
+import io
+from pathlib import Path
+
+FORMATS = {".png": "png", ".svg": "svg"}
+
+
+def format_for(path: str | Path) -> str | None:
+    return FORMATS.get(Path(path).suffix.lower())
+
+
+def render(data: dict, fmt: str = "png") -> bytes:
+    """The figure as PNG or SVG bytes from codegen.channels.figures.compute's output."""
+    import matplotlib
+    matplotlib.use("Agg")
+    from matplotlib.figure import Figure
+
+    plane, failure = data["plane"], data["failure"]
+    fig = Figure(figsize=(11, 4.4), dpi=110)
+    left, right = fig.subplots(1, 2)
+
+    # rate-error plane
+    fs = plane["flip_probs"]
+    left.plot(fs, plane["capacity"], color="black", label="capacity 1 - H2(f)")
+    shown_rates = list(plane["capacity"])
+    for limit in plane["limits"]:
+        left.plot(fs, limit["rates"], linestyle="--", label=limit["label"])
+        shown_rates += limit["rates"]
+    for code in plane["codes"]:
+        left.plot([code["flip_prob"]], [code["rate"]], marker="o", linestyle="none", label=code["label"])
+        left.axvline(code["flip_prob"], color="grey", linewidth=0.6, linestyle=":")
+        shown_rates.append(code["rate"])
+    left.set_xscale("log")
+    bottom = max(0.0, min(shown_rates) - 0.02)
+    left.set_ylim(bottom, min(1.0, max(shown_rates)) + 0.02 * (1.0 - bottom) + 0.002)
+    left.set_xlabel("flip probability f")
+    left.set_ylabel("rate (data bits per channel bit)")
+    left.set_title("rate-error plane")
+    left.legend(fontsize=8, loc="best")
+    left.grid(True, which="both", alpha=0.25)
+
+    # failure vs flip probability
+    lows = []
+    for curve in failure["curves"]:
+        right.plot(curve["flip_probs"], curve["failures"], label=curve["label"])
+        lows += curve["failures"]
+    for point in failure["points"]:
+        right.plot([point["flip_prob"]], [point["failure"]], marker="o", color="tab:red", linestyle="none",
+                   label=point["label"])
+        if point["failure"] > 0:
+            lows.append(point["failure"])
+    for i, s in enumerate(failure["simulated"]):
+        lo, hi = s["ci95"]
+        y = s["failure"]
+        label = "simulated (C), 95% interval" if i == 0 else None
+        if y > 0:
+            right.errorbar([s["flip_prob"]], [y], yerr=[[y - lo], [hi - y]], fmt="s", color="tab:green",
+                           capsize=3, markersize=4, label=label)
+        else:      # no failure seen: only the upper end is informative
+            right.errorbar([s["flip_prob"]], [hi], yerr=[[hi * 0.5], [0]], fmt="v", color="tab:green",
+                           capsize=3, markersize=4, uplims=False, label=label)
+    right.set_xscale("log")
+    right.set_yscale("log")
+    right.set_ylim(max(1e-30, min(lows + [1e-30])) if lows else 1e-30, 2.0)
+    right.set_xlabel("flip probability f")
+    right.set_ylabel("block failure (one codeword)")
+    right.set_title(failure["title"])
+    right.legend(fontsize=8, loc="lower right")
+    right.grid(True, which="both", alpha=0.25)
+
+    fig.tight_layout()
+    buf = io.BytesIO()
+    # fixed metadata: no date or version in the file, so the same inputs give the same bytes
+    meta = {"Software": None} if fmt == "png" else {"Date": None, "Creator": None}
+    fig.savefig(buf, format=fmt, metadata=meta)
+    return buf.getvalue()
+
+
+def write(path: str | Path, data: dict) -> None:
+    fmt = format_for(path)
+    if fmt is None:
+        raise ValueError(f"plot file must end in .png or .svg (got {Path(path).name})")
+    out = render(data, fmt)
+    path = Path(path)
+    path.parent.mkdir(parents=True, exist_ok=True)
+    tmp = path.with_name(f".{path.name}.tmp")
+    tmp.write_bytes(out)
+    tmp.replace(path)
