@@ -254,10 +254,10 @@ class Module:
         if pieces is None:
             value = self.fn("crc")(d, len(data))
         else:
-            state, at = self.fn("crc_init")(), 0
+            state, at = self.fn("crc_start")(), 0
             for n in pieces:
-                state = self.fn("crc_update")(state, d + at, n)
+                state = self.fn("crc_add")(state, d + at, n)
                 at += n
-            value = self.fn("crc_final")(state)
+            value = self.fn("crc_finish")(state)
         self._take(d_raw, len(data), "data")
         return int(value)

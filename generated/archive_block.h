@@ -34,17 +34,18 @@ extern "C" {
  * Constant tables: 8990 bytes.  Worst-case stack: 997 bytes
  * (32-symbol local arrays plus at most 5 call levels).
  */
-#define ARCHIVE_BLOCK_DATA_BYTES        223u   /* largest data block, bytes */
-#define ARCHIVE_BLOCK_PARITY_BYTES      32u   /* check bytes for the largest block */
-#define ARCHIVE_BLOCK_CORRECTABLE       16   /* errors always corrected */
-#define ARCHIVE_BLOCK_TABLE_BYTES       8990u   /* constant table bytes in the .c */
-#define ARCHIVE_BLOCK_STACK_BYTES       997u   /* worst-case stack bound, bytes */
-#define ARCHIVE_BLOCK_ERR_UNCORRECTABLE (-1)
-#define ARCHIVE_BLOCK_ERR_LENGTH        (-2)
-#define ARCHIVE_BLOCK_ERR_ARG           (-3)  /* a NULL buffer or an invalid argument */
-#define ARCHIVE_BLOCK_N                 255u   /* full codeword length, symbols */
-#define ARCHIVE_BLOCK_K                 223u   /* full data length, symbols */
-#define ARCHIVE_BLOCK_ERASURES_MAX      32u   /* longest erasure list decode_erasures accepts */
+#define ARCHIVE_BLOCK_N                 255u         /* codeword length of the largest block, symbols */
+#define ARCHIVE_BLOCK_K                 223u         /* data length of the largest block, symbols */
+#define ARCHIVE_BLOCK_T                 16u          /* symbol errors always corrected */
+#define ARCHIVE_BLOCK_DATA_BYTES        223u         /* largest data block, bytes */
+#define ARCHIVE_BLOCK_PARITY_BYTES      32u          /* check bytes for the largest block */
+#define ARCHIVE_BLOCK_CORRECTABLE       16           /* = _T, as an int like _decode's return */
+#define ARCHIVE_BLOCK_TABLE_BYTES       8990u        /* constant table bytes in the .c */
+#define ARCHIVE_BLOCK_STACK_BYTES       997u         /* worst-case stack bound, bytes */
+#define ARCHIVE_BLOCK_ERR_UNCORRECTABLE (-1)         /* errors found that the code cannot correct */
+#define ARCHIVE_BLOCK_ERR_LENGTH        (-2)         /* a data_len the code does not take */
+#define ARCHIVE_BLOCK_ERR_ARG           (-3)         /* a NULL buffer or an invalid argument */
+#define ARCHIVE_BLOCK_ERASURES_MAX      32u          /* longest erasure list _decode_erasures takes */
 
 /* Like _decode, with erasures: positions[0..count) index data || parity of the block as sent
  * (0 = data[0], data_len = parity[0]).  Corrects e = count erasures plus s errors whenever

@@ -34,17 +34,18 @@ extern "C" {
  * Constant tables: 527 bytes.  Worst-case stack: 613 bytes
  * (8-symbol local arrays plus at most 5 call levels).
  */
-#define BEACON_TELEMETRY_DATA_BYTES        20u   /* largest data block, bytes */
-#define BEACON_TELEMETRY_PARITY_BYTES      8u   /* check bytes for the largest block */
-#define BEACON_TELEMETRY_CORRECTABLE       4   /* errors always corrected */
-#define BEACON_TELEMETRY_TABLE_BYTES       527u   /* constant table bytes in the .c */
-#define BEACON_TELEMETRY_STACK_BYTES       613u   /* worst-case stack bound, bytes */
-#define BEACON_TELEMETRY_ERR_UNCORRECTABLE (-1)
-#define BEACON_TELEMETRY_ERR_LENGTH        (-2)
-#define BEACON_TELEMETRY_ERR_ARG           (-3)  /* a NULL buffer or an invalid argument */
-#define BEACON_TELEMETRY_N                 28u   /* full codeword length, symbols */
-#define BEACON_TELEMETRY_K                 20u   /* full data length, symbols */
-#define BEACON_TELEMETRY_ERASURES_MAX      8u   /* longest erasure list decode_erasures accepts */
+#define BEACON_TELEMETRY_N                 28u          /* codeword length of the largest block, symbols */
+#define BEACON_TELEMETRY_K                 20u          /* data length of the largest block, symbols */
+#define BEACON_TELEMETRY_T                 4u           /* symbol errors always corrected */
+#define BEACON_TELEMETRY_DATA_BYTES        20u          /* largest data block, bytes */
+#define BEACON_TELEMETRY_PARITY_BYTES      8u           /* check bytes for the largest block */
+#define BEACON_TELEMETRY_CORRECTABLE       4            /* = _T, as an int like _decode's return */
+#define BEACON_TELEMETRY_TABLE_BYTES       527u         /* constant table bytes in the .c */
+#define BEACON_TELEMETRY_STACK_BYTES       613u         /* worst-case stack bound, bytes */
+#define BEACON_TELEMETRY_ERR_UNCORRECTABLE (-1)         /* errors found that the code cannot correct */
+#define BEACON_TELEMETRY_ERR_LENGTH        (-2)         /* a data_len the code does not take */
+#define BEACON_TELEMETRY_ERR_ARG           (-3)         /* a NULL buffer or an invalid argument */
+#define BEACON_TELEMETRY_ERASURES_MAX      8u           /* longest erasure list _decode_erasures takes */
 
 /* Like _decode, with erasures: positions[0..count) index data || parity of the block as sent
  * (0 = data[0], data_len = parity[0]).  Corrects e = count erasures plus s errors whenever

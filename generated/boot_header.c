@@ -10,11 +10,12 @@
 #define BOOT_HEADER_TABLE_ATTR
 #endif
 
-typedef boot_header_crc_t boot_header_reg_t;
+typedef boot_header_crc_value_t boot_header_reg_t;
 
-/* The register holds the CRC bit-reversed and shifts right (reflected input). */#define BOOT_HEADER_REG_INIT   ((boot_header_reg_t)0xFFFFFFFFUL)
+/* The register holds the CRC bit-reversed and shifts right (reflected input). */
+#define BOOT_HEADER_REG_INIT   ((boot_header_reg_t)0xFFFFFFFFUL)
 #define BOOT_HEADER_REG_POLY   ((boot_header_reg_t)0xEDB88320UL)
-#define BOOT_HEADER_XOR_OUT    ((boot_header_crc_t)0xFFFFFFFFUL)
+#define BOOT_HEADER_XOR_OUT    ((boot_header_crc_value_t)0xFFFFFFFFUL)
 
 /* Register update for one input nibble: entry i is the register after shifting i through 4 steps
  * of the polynomial division, computed by the bitmend model. */
@@ -23,12 +24,12 @@ BOOT_HEADER_TABLE_ATTR static const boot_header_reg_t boot_header_table[16] = {
     0xEDB88320UL, 0xF00F9344UL, 0xD6D6A3E8UL, 0xCB61B38CUL, 0x9B64C2B0UL, 0x86D3D2D4UL, 0xA00AE278UL, 0xBDBDF21CUL
 };
 
-boot_header_crc_t boot_header_crc_init(void)
+boot_header_crc_value_t boot_header_crc_start(void)
 {
     return BOOT_HEADER_REG_INIT;
 }
 
-boot_header_crc_t boot_header_crc_update(boot_header_crc_t state, const uint8_t *data, size_t len)
+boot_header_crc_value_t boot_header_crc_add(boot_header_crc_value_t state, const uint8_t *data, size_t len)
 {
     boot_header_reg_t reg = state;
     size_t i;
@@ -43,14 +44,14 @@ boot_header_crc_t boot_header_crc_update(boot_header_crc_t state, const uint8_t 
     return reg;
 }
 
-boot_header_crc_t boot_header_crc_final(boot_header_crc_t state)
+boot_header_crc_value_t boot_header_crc_finish(boot_header_crc_value_t state)
 {
-    return (boot_header_crc_t)((state >> 0) ^ BOOT_HEADER_XOR_OUT);
+    return (boot_header_crc_value_t)((state >> 0) ^ BOOT_HEADER_XOR_OUT);
 }
 
-boot_header_crc_t boot_header_crc(const uint8_t *data, size_t len)
+boot_header_crc_value_t boot_header_crc(const uint8_t *data, size_t len)
 {
-    return boot_header_crc_final(boot_header_crc_update(boot_header_crc_init(), data, len));
+    return boot_header_crc_finish(boot_header_crc_add(boot_header_crc_start(), data, len));
 }
 
 /* -- frame ---------------------------------------------------------------------------------------- */
@@ -78,7 +79,7 @@ static size_t boot_header_frame_index(size_t data_len, unsigned copy, size_t j)
 }
 
 /* The CRC value as stored in the frame, byte i of BOOT_HEADER_CRC_BYTES. */
-static uint8_t boot_header_crc_byte(boot_header_crc_t crc, unsigned i)
+static uint8_t boot_header_crc_byte(boot_header_crc_value_t crc, unsigned i)
 {
     boot_header_reg_t aligned = crc;
     return (uint8_t)(aligned >> (8u * (BOOT_HEADER_CRC_BYTES - 1u - i)));
@@ -93,17 +94,17 @@ static uint8_t boot_header_pick(const uint8_t *data, const uint8_t *parity, size
 /* 1 when the block from `source` carries its own CRC. */
 static int boot_header_block_ok(const uint8_t *data, const uint8_t *parity, size_t data_len, unsigned source)
 {
-    boot_header_crc_t state = boot_header_crc_init();
-    boot_header_crc_t crc;
+    boot_header_crc_value_t state = boot_header_crc_start();
+    boot_header_crc_value_t crc;
     uint8_t byte;
     size_t j;
     unsigned i;
 
     for (j = 0; j < data_len; j++) {
         byte = boot_header_pick(data, parity, data_len, source, j);
-        state = boot_header_crc_update(state, &byte, 1u);
+        state = boot_header_crc_add(state, &byte, 1u);
     }
-    crc = boot_header_crc_final(state);
+    crc = boot_header_crc_finish(state);
     for (i = 0; i < BOOT_HEADER_CRC_BYTES; i++) {
         if (boot_header_pick(data, parity, data_len, source, data_len + i) != boot_header_crc_byte(crc, i)) {
             return 0;
@@ -125,7 +126,7 @@ static unsigned boot_header_popcount8(unsigned x)
 
 int boot_header_encode(const uint8_t *data, size_t data_len, uint8_t *parity)
 {
-    boot_header_crc_t crc;
+    boot_header_crc_value_t crc;
     unsigned copy;
     unsigned i;
     size_t j;

@@ -26,30 +26,34 @@ extern "C" {
  * Every copy is then rewritten with the chosen block; the return value counts the bits changed
  * (saturating at 32767).  Any BOOT_HEADER_CORRECTABLE bit errors are always corrected.
  */
-#define BOOT_HEADER_DATA_BYTES        64u   /* largest data block, bytes */
-#define BOOT_HEADER_PARITY_BYTES      4u   /* check bytes for the largest block */
-#define BOOT_HEADER_CORRECTABLE       0   /* errors always corrected */
-#define BOOT_HEADER_TABLE_BYTES       64u   /* constant table bytes in the .c */
-#define BOOT_HEADER_STACK_BYTES       480u   /* worst-case stack bound, bytes */
-#define BOOT_HEADER_ERR_UNCORRECTABLE (-1)
-#define BOOT_HEADER_ERR_LENGTH        (-2)
-#define BOOT_HEADER_ERR_ARG           (-3)  /* a NULL buffer or an invalid argument */
-#define BOOT_HEADER_CRC_WIDTH         32u
-#define BOOT_HEADER_CRC_BYTES         4u
-#define BOOT_HEADER_COPIES            1u
+#define BOOT_HEADER_N                 544u         /* codeword length of the largest block, bits */
+#define BOOT_HEADER_K                 512u         /* data length of the largest block, bits */
+#define BOOT_HEADER_T                 0u           /* bit errors always corrected */
+#define BOOT_HEADER_DATA_BYTES        64u          /* largest data block, bytes */
+#define BOOT_HEADER_PARITY_BYTES      4u           /* check bytes for the largest block */
+#define BOOT_HEADER_CORRECTABLE       0            /* = _T, as an int like _decode's return */
+#define BOOT_HEADER_TABLE_BYTES       64u          /* constant table bytes in the .c */
+#define BOOT_HEADER_STACK_BYTES       480u         /* worst-case stack bound, bytes */
+#define BOOT_HEADER_ERR_UNCORRECTABLE (-1)         /* errors found that the code cannot correct */
+#define BOOT_HEADER_ERR_LENGTH        (-2)         /* a data_len the code does not take */
+#define BOOT_HEADER_ERR_ARG           (-3)         /* a NULL buffer or an invalid argument */
+#define BOOT_HEADER_CRC_WIDTH         32u          /* bits of the CRC value */
+#define BOOT_HEADER_CRC_BYTES         4u           /* bytes the CRC value takes in the frame */
+#define BOOT_HEADER_CRC_CHECK         0xCBF43926UL /* CRC of the ASCII bytes "123456789" */
+#define BOOT_HEADER_COPIES            1u           /* copies of data || CRC in the frame */
 #define BOOT_HEADER_PARITY_LEN(data_len) \
     (BOOT_HEADER_CRC_BYTES + (BOOT_HEADER_COPIES - 1u) * ((data_len) + BOOT_HEADER_CRC_BYTES))
 
-/* Holds a CRC value and the streaming state. */
-typedef uint32_t boot_header_crc_t;
+/* Holds a CRC value, and the running state of a CRC computed piece by piece. */
+typedef uint32_t boot_header_crc_value_t;
 
 /* CRC of data[0..len).  A NULL data pointer counts as no data. */
-boot_header_crc_t boot_header_crc(const uint8_t *data, size_t len);
-/* Streaming: state = _crc_init(); state = _crc_update(state, piece, n) for each piece in order;
- * crc = _crc_final(state).  Any split of the data gives the one-shot value. */
-boot_header_crc_t boot_header_crc_init(void);
-boot_header_crc_t boot_header_crc_update(boot_header_crc_t state, const uint8_t *data, size_t len);
-boot_header_crc_t boot_header_crc_final(boot_header_crc_t state);
+boot_header_crc_value_t boot_header_crc(const uint8_t *data, size_t len);
+/* Piece by piece: state = _crc_start(); state = _crc_add(state, piece, n) for each piece in order;
+ * crc = _crc_finish(state).  Any split of the data gives the one-shot value. */
+boot_header_crc_value_t boot_header_crc_start(void);
+boot_header_crc_value_t boot_header_crc_add(boot_header_crc_value_t state, const uint8_t *data, size_t len);
+boot_header_crc_value_t boot_header_crc_finish(boot_header_crc_value_t state);
 
 /* Parity for data[0..data_len).  Returns 0, or _ERR_LENGTH / _ERR_ARG (parity untouched). */
 int boot_header_encode(const uint8_t *data, size_t data_len, uint8_t *parity);

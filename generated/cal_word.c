@@ -10,7 +10,6 @@
 #define CAL_WORD_TABLE_ATTR
 #endif
 
-#define CAL_WORD_N           (CAL_WORD_DATA_BITS + CAL_WORD_CHECK_BITS)
 #define CAL_WORD_PARITY_PAD  1u
 
 /* A column of the parity-check matrix, row 0 in the most significant of its 7 bits. */
@@ -90,8 +89,8 @@ static size_t cal_word_locate(cal_word_col_t s)
     size_t i;
 
     if ((s & (s - 1u)) == 0u) {                      /* one bit: a check bit failed alone */
-        for (i = 0; i < CAL_WORD_CHECK_BITS; i++) {
-            if (s == (1u << (CAL_WORD_CHECK_BITS - 1u - i))) {
+        for (i = 0; i < CAL_WORD_PARITY_BITS; i++) {
+            if (s == (1u << (CAL_WORD_PARITY_BITS - 1u - i))) {
                 return CAL_WORD_DATA_BITS + i;
             }
         }

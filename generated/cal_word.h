@@ -25,16 +25,19 @@ extern "C" {
  * decode returns 1 after correcting one bit, 0 when clean, CAL_WORD_ERR_UNCORRECTABLE for an error
  * pattern it detects but cannot correct (every double error).
  */
-#define CAL_WORD_DATA_BYTES        4u   /* largest data block, bytes */
-#define CAL_WORD_PARITY_BYTES      1u   /* check bytes for the largest block */
-#define CAL_WORD_CORRECTABLE       1   /* errors always corrected */
-#define CAL_WORD_TABLE_BYTES       128u   /* constant table bytes in the .c */
-#define CAL_WORD_STACK_BYTES       288u   /* worst-case stack bound, bytes */
-#define CAL_WORD_ERR_UNCORRECTABLE (-1)
-#define CAL_WORD_ERR_LENGTH        (-2)
-#define CAL_WORD_ERR_ARG           (-3)  /* a NULL buffer or an invalid argument */
-#define CAL_WORD_DATA_BITS         32u
-#define CAL_WORD_CHECK_BITS        7u
+#define CAL_WORD_N                 39u          /* codeword length of the largest block, bits */
+#define CAL_WORD_K                 32u          /* data length of the largest block, bits */
+#define CAL_WORD_T                 1u           /* bit errors always corrected */
+#define CAL_WORD_DATA_BYTES        4u           /* largest data block, bytes */
+#define CAL_WORD_PARITY_BYTES      1u           /* check bytes for the largest block */
+#define CAL_WORD_CORRECTABLE       1            /* = _T, as an int like _decode's return */
+#define CAL_WORD_TABLE_BYTES       128u         /* constant table bytes in the .c */
+#define CAL_WORD_STACK_BYTES       288u         /* worst-case stack bound, bytes */
+#define CAL_WORD_ERR_UNCORRECTABLE (-1)         /* errors found that the code cannot correct */
+#define CAL_WORD_ERR_LENGTH        (-2)         /* a data_len the code does not take */
+#define CAL_WORD_ERR_ARG           (-3)         /* a NULL buffer or an invalid argument */
+#define CAL_WORD_DATA_BITS         32u          /* data bits in data[] */
+#define CAL_WORD_PARITY_BITS       7u           /* check bits in parity[] */
 
 /* Parity for data[0..data_len).  Returns 0, or _ERR_LENGTH / _ERR_ARG (parity untouched). */
 int cal_word_encode(const uint8_t *data, size_t data_len, uint8_t *parity);

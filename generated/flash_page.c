@@ -15,7 +15,6 @@ typedef uint32_t flash_page_word_t;    /* remainder words, most significant word
 typedef uint16_t flash_page_pos_t;     /* a bit position (degree) in the codeword, < 2^13 - 1 */
 
 #define FLASH_PAGE_ORDER      ((uint32_t)8191u)   /* 2^m - 1: order of alpha, parent code length */
-#define FLASH_PAGE_T          8u
 #define FLASH_PAGE_TWO_T      16u
 #define FLASH_PAGE_WORDS      4u   /* the 104-bit remainder, left-aligned in 128 bits */
 #define FLASH_PAGE_RBITS      ((uint32_t)104u)

@@ -36,18 +36,21 @@ extern "C" {
  * Constant tables: 37870 bytes (profiles: fast 37870, small 34030, tiny 16).
  * Stack: at most 808 bytes (328 of them local arrays).
  */
-#define FLASH_PAGE_DATA_BYTES        512u   /* largest data block, bytes */
-#define FLASH_PAGE_PARITY_BYTES      13u   /* check bytes for the largest block */
-#define FLASH_PAGE_CORRECTABLE       8   /* errors always corrected */
-#define FLASH_PAGE_TABLE_BYTES       37870u   /* constant table bytes in the .c */
-#define FLASH_PAGE_STACK_BYTES       808u   /* worst-case stack bound, bytes */
-#define FLASH_PAGE_ERR_UNCORRECTABLE (-1)
-#define FLASH_PAGE_ERR_LENGTH        (-2)
-#define FLASH_PAGE_ERR_ARG           (-3)  /* a NULL buffer or an invalid argument */
-#define FLASH_PAGE_M                 13u   /* field GF(2^m) */
-#define FLASH_PAGE_FIELD_POLY        0x0000201BUL
-#define FLASH_PAGE_DATA_BITS         4096u   /* data bits of the largest block */
-#define FLASH_PAGE_PARITY_BITS       104u   /* deg g(x) */
+#define FLASH_PAGE_N                 4200u        /* codeword length of the largest block, bits */
+#define FLASH_PAGE_K                 4096u        /* data length of the largest block, bits */
+#define FLASH_PAGE_T                 8u           /* bit errors always corrected */
+#define FLASH_PAGE_DATA_BYTES        512u         /* largest data block, bytes */
+#define FLASH_PAGE_PARITY_BYTES      13u          /* check bytes for the largest block */
+#define FLASH_PAGE_CORRECTABLE       8            /* = _T, as an int like _decode's return */
+#define FLASH_PAGE_TABLE_BYTES       37870u       /* constant table bytes in the .c */
+#define FLASH_PAGE_STACK_BYTES       808u         /* worst-case stack bound, bytes */
+#define FLASH_PAGE_ERR_UNCORRECTABLE (-1)         /* errors found that the code cannot correct */
+#define FLASH_PAGE_ERR_LENGTH        (-2)         /* a data_len the code does not take */
+#define FLASH_PAGE_ERR_ARG           (-3)         /* a NULL buffer or an invalid argument */
+#define FLASH_PAGE_M                 13u          /* field GF(2^m) */
+#define FLASH_PAGE_FIELD_POLY        0x0000201BUL /* primitive polynomial of the field */
+#define FLASH_PAGE_DATA_BITS         4096u        /* data bits of the largest block */
+#define FLASH_PAGE_PARITY_BITS       104u         /* deg g(x) */
 
 /* Parity for data[0..data_len).  Returns 0, or _ERR_LENGTH / _ERR_ARG (parity untouched). */
 int flash_page_encode(const uint8_t *data, size_t data_len, uint8_t *parity);

@@ -10,7 +10,6 @@
 #define MEM_WORD_TABLE_ATTR __attribute__((section(".rodata.ecc")))
 #endif
 
-#define MEM_WORD_N           (MEM_WORD_DATA_BITS + MEM_WORD_CHECK_BITS)
 #define MEM_WORD_PARITY_PAD  0u
 
 /* A column of the parity-check matrix, row 0 in the most significant of its 8 bits. */

@@ -24,16 +24,19 @@ extern "C" {
  * decode returns 1 after correcting one bit, 0 when clean, MEM_WORD_ERR_UNCORRECTABLE for an error
  * pattern it detects but cannot correct (every double error).
  */
-#define MEM_WORD_DATA_BYTES        8u   /* largest data block, bytes */
-#define MEM_WORD_PARITY_BYTES      1u   /* check bytes for the largest block */
-#define MEM_WORD_CORRECTABLE       1   /* errors always corrected */
-#define MEM_WORD_TABLE_BYTES       2304u   /* constant table bytes in the .c */
-#define MEM_WORD_STACK_BYTES       288u   /* worst-case stack bound, bytes */
-#define MEM_WORD_ERR_UNCORRECTABLE (-1)
-#define MEM_WORD_ERR_LENGTH        (-2)
-#define MEM_WORD_ERR_ARG           (-3)  /* a NULL buffer or an invalid argument */
-#define MEM_WORD_DATA_BITS         64u
-#define MEM_WORD_CHECK_BITS        8u
+#define MEM_WORD_N                 72u          /* codeword length of the largest block, bits */
+#define MEM_WORD_K                 64u          /* data length of the largest block, bits */
+#define MEM_WORD_T                 1u           /* bit errors always corrected */
+#define MEM_WORD_DATA_BYTES        8u           /* largest data block, bytes */
+#define MEM_WORD_PARITY_BYTES      1u           /* check bytes for the largest block */
+#define MEM_WORD_CORRECTABLE       1            /* = _T, as an int like _decode's return */
+#define MEM_WORD_TABLE_BYTES       2304u        /* constant table bytes in the .c */
+#define MEM_WORD_STACK_BYTES       288u         /* worst-case stack bound, bytes */
+#define MEM_WORD_ERR_UNCORRECTABLE (-1)         /* errors found that the code cannot correct */
+#define MEM_WORD_ERR_LENGTH        (-2)         /* a data_len the code does not take */
+#define MEM_WORD_ERR_ARG           (-3)         /* a NULL buffer or an invalid argument */
+#define MEM_WORD_DATA_BITS         64u          /* data bits in data[] */
+#define MEM_WORD_PARITY_BITS       8u           /* check bits in parity[] */
 
 /* Parity for data[0..data_len).  Returns 0, or _ERR_LENGTH / _ERR_ARG (parity untouched). */
 int mem_word_encode(const uint8_t *data, size_t data_len, uint8_t *parity);

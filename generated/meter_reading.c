@@ -15,7 +15,6 @@ typedef uint32_t meter_reading_word_t;    /* remainder words, most significant w
 typedef uint16_t meter_reading_pos_t;     /* a bit position (degree) in the codeword, < 2^8 - 1 */
 
 #define METER_READING_ORDER      ((uint32_t)255u)   /* 2^m - 1: order of alpha, parent code length */
-#define METER_READING_T          3u
 #define METER_READING_TWO_T      6u
 #define METER_READING_WORDS      1u   /* the 24-bit remainder, left-aligned in 32 bits */
 #define METER_READING_RBITS      ((uint32_t)24u)

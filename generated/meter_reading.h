@@ -36,18 +36,21 @@ extern "C" {
  * Constant tables: 764 bytes (profiles: fast 1724, small 764, tiny 4).
  * Stack: at most 608 bytes (128 of them local arrays).
  */
-#define METER_READING_DATA_BYTES        16u   /* largest data block, bytes */
-#define METER_READING_PARITY_BYTES      3u   /* check bytes for the largest block */
-#define METER_READING_CORRECTABLE       3   /* errors always corrected */
-#define METER_READING_TABLE_BYTES       764u   /* constant table bytes in the .c */
-#define METER_READING_STACK_BYTES       608u   /* worst-case stack bound, bytes */
-#define METER_READING_ERR_UNCORRECTABLE (-1)
-#define METER_READING_ERR_LENGTH        (-2)
-#define METER_READING_ERR_ARG           (-3)  /* a NULL buffer or an invalid argument */
-#define METER_READING_M                 8u   /* field GF(2^m) */
-#define METER_READING_FIELD_POLY        0x0000012BUL
-#define METER_READING_DATA_BITS         128u   /* data bits of the largest block */
-#define METER_READING_PARITY_BITS       24u   /* deg g(x) */
+#define METER_READING_N                 152u         /* codeword length of the largest block, bits */
+#define METER_READING_K                 128u         /* data length of the largest block, bits */
+#define METER_READING_T                 3u           /* bit errors always corrected */
+#define METER_READING_DATA_BYTES        16u          /* largest data block, bytes */
+#define METER_READING_PARITY_BYTES      3u           /* check bytes for the largest block */
+#define METER_READING_CORRECTABLE       3            /* = _T, as an int like _decode's return */
+#define METER_READING_TABLE_BYTES       764u         /* constant table bytes in the .c */
+#define METER_READING_STACK_BYTES       608u         /* worst-case stack bound, bytes */
+#define METER_READING_ERR_UNCORRECTABLE (-1)         /* errors found that the code cannot correct */
+#define METER_READING_ERR_LENGTH        (-2)         /* a data_len the code does not take */
+#define METER_READING_ERR_ARG           (-3)         /* a NULL buffer or an invalid argument */
+#define METER_READING_M                 8u           /* field GF(2^m) */
+#define METER_READING_FIELD_POLY        0x0000012BUL /* primitive polynomial of the field */
+#define METER_READING_DATA_BITS         128u         /* data bits of the largest block */
+#define METER_READING_PARITY_BITS       24u          /* deg g(x) */
 
 /* Parity for data[0..data_len).  Returns 0, or _ERR_LENGTH / _ERR_ARG (parity untouched). */
 int meter_reading_encode(const uint8_t *data, size_t data_len, uint8_t *parity);

@@ -10,11 +10,12 @@
 #define SOIL_PROBE_TABLE_ATTR
 #endif
 
-typedef soil_probe_crc_t soil_probe_reg_t;
+typedef soil_probe_crc_value_t soil_probe_reg_t;
 
-/* The register holds the CRC bit-reversed and shifts right (reflected input). */#define SOIL_PROBE_REG_INIT   ((soil_probe_reg_t)0x0000u)
+/* The register holds the CRC bit-reversed and shifts right (reflected input). */
+#define SOIL_PROBE_REG_INIT   ((soil_probe_reg_t)0x0000u)
 #define SOIL_PROBE_REG_POLY   ((soil_probe_reg_t)0x8408u)
-#define SOIL_PROBE_XOR_OUT    ((soil_probe_crc_t)0x0000u)
+#define SOIL_PROBE_XOR_OUT    ((soil_probe_crc_value_t)0x0000u)
 
 /* Register update for one input byte: entry i is the register after shifting i through 8 steps
  * of the polynomial division, computed by the bitmend model. */
@@ -53,12 +54,12 @@ SOIL_PROBE_TABLE_ATTR static const soil_probe_reg_t soil_probe_table[256] = {
     0x7BC7u, 0x6A4Eu, 0x58D5u, 0x495Cu, 0x3DE3u, 0x2C6Au, 0x1EF1u, 0x0F78u
 };
 
-soil_probe_crc_t soil_probe_crc_init(void)
+soil_probe_crc_value_t soil_probe_crc_start(void)
 {
     return SOIL_PROBE_REG_INIT;
 }
 
-soil_probe_crc_t soil_probe_crc_update(soil_probe_crc_t state, const uint8_t *data, size_t len)
+soil_probe_crc_value_t soil_probe_crc_add(soil_probe_crc_value_t state, const uint8_t *data, size_t len)
 {
     soil_probe_reg_t reg = state;
     size_t i;
@@ -72,14 +73,14 @@ soil_probe_crc_t soil_probe_crc_update(soil_probe_crc_t state, const uint8_t *da
     return reg;
 }
 
-soil_probe_crc_t soil_probe_crc_final(soil_probe_crc_t state)
+soil_probe_crc_value_t soil_probe_crc_finish(soil_probe_crc_value_t state)
 {
-    return (soil_probe_crc_t)((state >> 0) ^ SOIL_PROBE_XOR_OUT);
+    return (soil_probe_crc_value_t)((state >> 0) ^ SOIL_PROBE_XOR_OUT);
 }
 
-soil_probe_crc_t soil_probe_crc(const uint8_t *data, size_t len)
+soil_probe_crc_value_t soil_probe_crc(const uint8_t *data, size_t len)
 {
-    return soil_probe_crc_final(soil_probe_crc_update(soil_probe_crc_init(), data, len));
+    return soil_probe_crc_finish(soil_probe_crc_add(soil_probe_crc_start(), data, len));
 }
 
 /* -- frame ---------------------------------------------------------------------------------------- */
@@ -107,7 +108,7 @@ static size_t soil_probe_frame_index(size_t data_len, unsigned copy, size_t j)
 }
 
 /* The CRC value as stored in the frame, byte i of SOIL_PROBE_CRC_BYTES. */
-static uint8_t soil_probe_crc_byte(soil_probe_crc_t crc, unsigned i)
+static uint8_t soil_probe_crc_byte(soil_probe_crc_value_t crc, unsigned i)
 {
     soil_probe_reg_t aligned = crc;
     return (uint8_t)(aligned >> (8u * (SOIL_PROBE_CRC_BYTES - 1u - i)));
@@ -150,17 +151,17 @@ static uint8_t soil_probe_pick(const uint8_t *data, const uint8_t *parity, size_
 /* 1 when the block from `source` carries its own CRC. */
 static int soil_probe_block_ok(const uint8_t *data, const uint8_t *parity, size_t data_len, unsigned source)
 {
-    soil_probe_crc_t state = soil_probe_crc_init();
-    soil_probe_crc_t crc;
+    soil_probe_crc_value_t state = soil_probe_crc_start();
+    soil_probe_crc_value_t crc;
     uint8_t byte;
     size_t j;
     unsigned i;
 
     for (j = 0; j < data_len; j++) {
         byte = soil_probe_pick(data, parity, data_len, source, j);
-        state = soil_probe_crc_update(state, &byte, 1u);
+        state = soil_probe_crc_add(state, &byte, 1u);
     }
-    crc = soil_probe_crc_final(state);
+    crc = soil_probe_crc_finish(state);
     for (i = 0; i < SOIL_PROBE_CRC_BYTES; i++) {
         if (soil_probe_pick(data, parity, data_len, source, data_len + i) != soil_probe_crc_byte(crc, i)) {
             return 0;
@@ -182,7 +183,7 @@ static unsigned soil_probe_popcount8(unsigned x)
 
 int soil_probe_encode(const uint8_t *data, size_t data_len, uint8_t *parity)
 {
-    soil_probe_crc_t crc;
+    soil_probe_crc_value_t crc;
     unsigned copy;
     unsigned i;
     size_t j;

@@ -27,30 +27,34 @@ extern "C" {
  * Every copy is then rewritten with the chosen block; the return value counts the bits changed
  * (saturating at 32767).  Any SOIL_PROBE_CORRECTABLE bit errors are always corrected.
  */
-#define SOIL_PROBE_DATA_BYTES        24u   /* largest data block, bytes */
-#define SOIL_PROBE_PARITY_BYTES      54u   /* check bytes for the largest block */
-#define SOIL_PROBE_CORRECTABLE       2   /* errors always corrected */
-#define SOIL_PROBE_TABLE_BYTES       512u   /* constant table bytes in the .c */
-#define SOIL_PROBE_STACK_BYTES       480u   /* worst-case stack bound, bytes */
-#define SOIL_PROBE_ERR_UNCORRECTABLE (-1)
-#define SOIL_PROBE_ERR_LENGTH        (-2)
-#define SOIL_PROBE_ERR_ARG           (-3)  /* a NULL buffer or an invalid argument */
-#define SOIL_PROBE_CRC_WIDTH         16u
-#define SOIL_PROBE_CRC_BYTES         2u
-#define SOIL_PROBE_COPIES            3u
+#define SOIL_PROBE_N                 624u         /* codeword length of the largest block, bits */
+#define SOIL_PROBE_K                 192u         /* data length of the largest block, bits */
+#define SOIL_PROBE_T                 2u           /* bit errors always corrected */
+#define SOIL_PROBE_DATA_BYTES        24u          /* largest data block, bytes */
+#define SOIL_PROBE_PARITY_BYTES      54u          /* check bytes for the largest block */
+#define SOIL_PROBE_CORRECTABLE       2            /* = _T, as an int like _decode's return */
+#define SOIL_PROBE_TABLE_BYTES       512u         /* constant table bytes in the .c */
+#define SOIL_PROBE_STACK_BYTES       480u         /* worst-case stack bound, bytes */
+#define SOIL_PROBE_ERR_UNCORRECTABLE (-1)         /* errors found that the code cannot correct */
+#define SOIL_PROBE_ERR_LENGTH        (-2)         /* a data_len the code does not take */
+#define SOIL_PROBE_ERR_ARG           (-3)         /* a NULL buffer or an invalid argument */
+#define SOIL_PROBE_CRC_WIDTH         16u          /* bits of the CRC value */
+#define SOIL_PROBE_CRC_BYTES         2u           /* bytes the CRC value takes in the frame */
+#define SOIL_PROBE_CRC_CHECK         0x2189u      /* CRC of the ASCII bytes "123456789" */
+#define SOIL_PROBE_COPIES            3u           /* copies of data || CRC in the frame */
 #define SOIL_PROBE_PARITY_LEN(data_len) \
     (SOIL_PROBE_CRC_BYTES + (SOIL_PROBE_COPIES - 1u) * ((data_len) + SOIL_PROBE_CRC_BYTES))
 
-/* Holds a CRC value and the streaming state. */
-typedef uint16_t soil_probe_crc_t;
+/* Holds a CRC value, and the running state of a CRC computed piece by piece. */
+typedef uint16_t soil_probe_crc_value_t;
 
 /* CRC of data[0..len).  A NULL data pointer counts as no data. */
-soil_probe_crc_t soil_probe_crc(const uint8_t *data, size_t len);
-/* Streaming: state = _crc_init(); state = _crc_update(state, piece, n) for each piece in order;
- * crc = _crc_final(state).  Any split of the data gives the one-shot value. */
-soil_probe_crc_t soil_probe_crc_init(void);
-soil_probe_crc_t soil_probe_crc_update(soil_probe_crc_t state, const uint8_t *data, size_t len);
-soil_probe_crc_t soil_probe_crc_final(soil_probe_crc_t state);
+soil_probe_crc_value_t soil_probe_crc(const uint8_t *data, size_t len);
+/* Piece by piece: state = _crc_start(); state = _crc_add(state, piece, n) for each piece in order;
+ * crc = _crc_finish(state).  Any split of the data gives the one-shot value. */
+soil_probe_crc_value_t soil_probe_crc_start(void);
+soil_probe_crc_value_t soil_probe_crc_add(soil_probe_crc_value_t state, const uint8_t *data, size_t len);
+soil_probe_crc_value_t soil_probe_crc_finish(soil_probe_crc_value_t state);
 
 /* Parity for data[0..data_len).  Returns 0, or _ERR_LENGTH / _ERR_ARG (parity untouched). */
 int soil_probe_encode(const uint8_t *data, size_t data_len, uint8_t *parity);

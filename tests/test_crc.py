@@ -78,11 +78,12 @@ def _driver(n: int) -> str:
         p = f"crc_{i}"
         lines += [
             f"    printf(\"{i} %llx\", (unsigned long long){p}_crc(check, 9u));",
-            f"    for (s = 0; s <= 9u; s++) printf(\" %llx\", (unsigned long long){p}_crc_final("
-            f"{p}_crc_update({p}_crc_update({p}_crc_init(), check, s), check + s, 9u - s)));",
-            f"    {{ {p}_crc_t st = {p}_crc_init(); for (i = 0; i < 9u; i++) st = {p}_crc_update(st, check + i, 1u);"
-            f" printf(\" %llx\", (unsigned long long){p}_crc_final(st)); }}",
-            f"    printf(\" %llx\\n\", (unsigned long long){p}_crc(rnd, sizeof rnd));",
+            f"    for (s = 0; s <= 9u; s++) printf(\" %llx\", (unsigned long long){p}_crc_finish("
+            f"{p}_crc_add({p}_crc_add({p}_crc_start(), check, s), check + s, 9u - s)));",
+            f"    {{ {p}_crc_value_t st = {p}_crc_start(); for (i = 0; i < 9u; i++) st = {p}_crc_add(st, check + i, 1u);"
+            f" printf(\" %llx\", (unsigned long long){p}_crc_finish(st)); }}",
+            f"    printf(\" %llx\", (unsigned long long){p}_crc(rnd, sizeof rnd));",
+            f"    printf(\" %llx\\n\", (unsigned long long){p.upper()}_CRC_CHECK);",
         ]
     lines += ["    return 0;", "}"]
     return "\n".join(lines) + "\n"
@@ -91,7 +92,8 @@ def _driver(n: int) -> str:
 @pytest.mark.parametrize("profile", ["fast", "small", "tiny"])
 def test_generated_c_whole_catalogue(profile, tmp_path):
     """Every catalogue CRC (and every crccheck one) from the generated C: one-shot, split at every
-    point, byte by byte, and over random data; strict flags, one program per profile."""
+    point, byte by byte, over random data, and the header's P_CRC_CHECK; strict flags, one program per
+    profile."""
     entries = all_entries()
     sources = []
     for i, entry in enumerate(entries):
@@ -109,6 +111,7 @@ def test_generated_c_whole_catalogue(profile, tmp_path):
         values = [int(x, 16) for x in line.split()[1:]]
         assert values[:12] == [entry[7]] * 12, (entry[0], profile)        # check value, every way
         assert values[12] == crc_of(entry).compute(RANDOM), (entry[0], profile)
+        assert values[13] == entry[7], (entry[0], profile)                  # the header's P_CRC_CHECK
 
 
 def test_streaming_any_split_through_cffi():

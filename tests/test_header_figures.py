@@ -77,3 +77,19 @@ def test_stated_table_bytes_are_the_tables(path, profile):
     stated = int(re.search(rf"#define {name.upper()}_TABLE_BYTES\s+(\d+)u", files[f"{name}.h"]).group(1))
     assert stated == size == model.properties.table_bytes
     assert source.count(f"{name.upper()}_TABLE_ATTR static const") == len(declared)
+
+
+@pytest.mark.parametrize("path", EXAMPLES, ids=[p.stem for p in EXAMPLES])
+def test_uniform_macros_state_the_model(path):
+    """P_N, P_K, P_T in every family, equal to the model's n, k, t; every #define of the header's macro
+    block aligned on one column (common practice, no source: aligned macro lists are read at a glance)."""
+    model = build(specmod.load(path))
+    name, upper = model.spec.name, model.spec.name.upper()
+    header = emit.render(model)[f"{name}.h"]
+    p = model.properties
+    for short, want in (("N", p.n), ("K", p.k), ("T", p.t)):
+        got = re.search(rf"^#define {upper}_{short}\s+(\d+)u\s", header, flags=re.M)
+        assert got and int(got.group(1)) == want, (short, want)
+    columns = {m.end(2) - m.start(0) for m in
+               re.finditer(rf"^#define ({upper}_\w+)( +)\S", header, flags=re.M) if "(" not in m.group(1)}
+    assert len(columns) == 1, columns

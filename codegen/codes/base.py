@@ -113,6 +113,7 @@ class CodeModel(ABC):
             "n": p.n,
             "k": p.k,
             "d": p.d,
+            "unit": "bit" if p.unit_bits == 1 else "symbol",
         }
         ctx.update(self.family_context())
         return ctx

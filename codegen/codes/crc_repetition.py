@@ -13,6 +13,7 @@ import numpy as np
 from ..spec import Spec
 from .base import ERR_LENGTH, ERR_UNCORRECTABLE, CodeModel, Properties, ctype_bytes, ctype_for
 
+CHECK_INPUT = b"123456789"  # the catalogue's check string: P_CRC_CHECK is the CRC of these bytes
 MAX_COUNT = 32767          # corrected-bit counts saturate here: the smallest INT_MAX C allows
 
 
@@ -33,7 +34,7 @@ class Crc:
         self.reflect_in, self.reflect_out, self.xor_out = reflect_in, reflect_out, xor_out
         self.mask = (1 << width) - 1
         self.ctype = ctype_for(self.mask)
-        self.reg_bits = ctype_bytes(self.ctype) * 8      # the C register is the whole P_crc_t
+        self.reg_bits = ctype_bytes(self.ctype) * 8      # the C register is the whole P_crc_value_t
         self.nbytes = (width + 7) // 8
 
     def compute(self, data: bytes) -> int:
@@ -181,6 +182,7 @@ class CrcRepetition(CodeModel):
         crc = self.crc
         return {
             "crc_ctype": crc.ctype,
+            "crc_check": crc.compute(CHECK_INPUT),
             "reg_bits": crc.reg_bits,
             # type a register is widened to before a left shift: never a (possibly 16-bit) signed int
             "shift_type": "unsigned" if crc.reg_bits <= 16 else crc.ctype,
