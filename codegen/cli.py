@@ -1,53 +1,89 @@
 """Command-line front end: argument parsing and exit codes only; the work lives in the other modules.
 
-Exit codes: 0 ok, 1 a check failed (mismatch, stale output), 2 bad input.
+Exit codes: 0 ok, 1 a check failed (mismatch, stale output) or could not run (no working C compiler),
+2 bad input (spec, option value, an output that cannot be written), 130 interrupted (Ctrl-C),
+143 terminated, 141 stdout closed early (`| head`).  Every error is one line on stderr.
 """
 from __future__ import annotations
 
 import argparse
 import json
+import os
+import signal
 import sys
+import threading
 from pathlib import Path
 
-from . import __version__, emit, spec as specmod, verify
+from . import __version__, emit, harness, spec as specmod, verify
+from .codes import load_specs
+from .spec import show_path
 
 EXIT_OK, EXIT_FAILED, EXIT_BAD_INPUT = 0, 1, 2
+EXIT_INTERRUPTED, EXIT_PIPE, EXIT_TERMINATED = 130, 141, 143
+STDOUT = "-"                                   # as a file name: write to standard output
+MAX_SEED = 2**64 - 1
+MAX_BUDGET = 10**8
 
 
 class _Parser(argparse.ArgumentParser):
     def error(self, message: str):             # argparse's own exit status is 2 as well
-        self.exit(EXIT_BAD_INPUT, f"bitmend: {message}\n")
+        self.exit(EXIT_BAD_INPUT, f"bitmend: {specmod.escape(message, 400)}\n")
+
+
+class _Terminated(Exception):
+    """SIGTERM or SIGHUP arrived: unwind like Ctrl-C so temporaries are removed."""
 
 
 def _load_specs(paths: list[str]) -> list[specmod.Spec]:
-    specs, problems = [], []
-    for path in paths:
-        try:
-            specs.append(specmod.load(path))
-        except specmod.SpecError as err:
-            problems.extend(err.problems)
-    if problems:
-        raise specmod.SpecError(problems)
-    return specs
+    return load_specs(paths)
+
+
+def _say(args, text: str) -> None:
+    """Human-readable output: stdout, or stderr when stdout carries a file's content (`--json -`)."""
+    to_stdout = STDOUT not in (getattr(args, "json", None), getattr(args, "depfile", None),
+                               getattr(args, "write", None))
+    print(text, file=sys.stdout if to_stdout else sys.stderr)
+
+
+def _deliver(args, outputs: list[emit.Output]) -> list[Path]:
+    """Outputs named "-" go to stdout; the rest are committed together (all or nothing)."""
+    files = [o for o in outputs if str(o.path) != STDOUT]
+    written = emit.commit(files)
+    for o in outputs:
+        if str(o.path) == STDOUT:
+            sys.stdout.write(o.text)
+    return written
+
+
+def _json_output(path: str, value) -> emit.Output:
+    return emit.Output(Path(path), json.dumps(value, indent=2) + "\n")
 
 
 def cmd_generate(args) -> int:
     specs = _load_specs(args.specs)
+    if args.profile:
+        specs = [s.with_profile(args.profile) for s in specs]
     outdir = Path(args.output)
     outputs = emit.plan(specs, outdir)
     if args.check:
         old = emit.stale(outputs)
-        for path in old:
-            print(f"stale: {path}")
+        for path, why in old:
+            print(f"{why}: {show_path(path)}")
         if old:
-            print(f"bitmend: {len(old)} generated file(s) out of date; run 'bitmend generate' without --check",
-                  file=sys.stderr)
+            print(f"bitmend: {len(old)} generated file(s) missing or out of date; run 'bitmend generate' "
+                  "without --check", file=sys.stderr)
             return EXIT_FAILED
         return EXIT_OK
-    for path in emit.write(outputs):
-        print(f"wrote {path}")
+    extra = []
     if args.depfile:
-        emit.write_atomic(Path(args.depfile), emit.depfile_text(specs, outputs))
+        try:
+            extra.append(emit.Output(Path(args.depfile), emit.depfile_text(outputs)))
+        except ValueError as err:
+            print(f"bitmend: --depfile: {specmod.escape(str(err), None)}", file=sys.stderr)
+            return EXIT_BAD_INPUT
+    for path in _deliver(args, outputs + extra):
+        if path in {o.path for o in outputs}:
+            _say(args, f"wrote {show_path(path)}")
     return EXIT_OK
 
 
@@ -55,9 +91,9 @@ def cmd_verify(args) -> int:
     specs = _load_specs(args.specs)
     reports = verify.run_specs(specs, seed=args.seed, budget=args.budget, profiles=args.profile)
     for report in reports:
-        print(report.table())
+        _say(args, report.table())
     if args.json:
-        emit.write_atomic(Path(args.json), json.dumps([r.as_dict() for r in reports], indent=2) + "\n")
+        _deliver(args, [_json_output(args.json, [r.as_dict() for r in reports])])
     return EXIT_OK if all(r.ok for r in reports) else EXIT_FAILED
 
 
@@ -66,12 +102,12 @@ def cmd_analyze(args) -> int:
     specs = _load_specs(args.specs)
     results = study.run(specs, make("bsc", args.flip_prob), trials=args.simulate, seed=args.seed,
                         plot_file=args.plot)
-    print("\n\n".join(analysis.table(r) for r in results))
+    _say(args, "\n\n".join(analysis.table(r) for r in results))
     if args.plot:
-        print(f"wrote {args.plot}")
+        _say(args, f"wrote {show_path(args.plot)}")
     if args.json:
         data = results[0] if len(results) == 1 else results
-        emit.write_atomic(Path(args.json), json.dumps(data, indent=2) + "\n")
+        _deliver(args, [_json_output(args.json, data)])
     return EXIT_OK
 
 
@@ -79,20 +115,29 @@ def cmd_recommend(args) -> int:
     from .channels import make, recommend
     outcome = recommend.search(args.data_bytes, make("bsc", args.flip_prob), args.target, args.families,
                                args.profile)
-    print(recommend.table(outcome))
-    if args.json:
-        emit.write_atomic(Path(args.json), json.dumps(outcome.as_dict(), indent=2) + "\n")
+    _say(args, recommend.table(outcome))
+    outputs = [_json_output(args.json, outcome.as_dict())] if args.json else []
     if args.write and outcome.best is not None:
-        path = Path(args.write) / f"{outcome.best.name}.toml"
-        emit.write_atomic(path, recommend.spec_text(outcome.best, outcome, args.profile))
-        print(f"wrote {path}")
+        text = recommend.spec_text(outcome.best, outcome, args.profile)
+        path = Path(args.write) / f"{outcome.best.name}.toml" if args.write != STDOUT else Path(STDOUT)
+        if str(path) != STDOUT and os.path.lexists(path) and not args.force:
+            print(f"bitmend: {show_path(path)}: exists; --force replaces it", file=sys.stderr)
+            return EXIT_BAD_INPUT
+        outputs.append(emit.Output(path, text))
+    for path in _deliver(args, outputs):
+        if path.suffix == ".toml":
+            _say(args, f"wrote {show_path(path)}")
     return EXIT_OK if outcome.candidates else EXIT_FAILED
 
 
 def _check_args(args) -> str | None:
     """The first bad option value, as a message naming the option; None when all are fine."""
-    if getattr(args, "budget", 1) < 1:
-        return "--budget must be at least 1"
+    budget = getattr(args, "budget", 1)
+    if not 1 <= budget <= MAX_BUDGET:
+        return f"--budget must be 1..{MAX_BUDGET} (got {budget})"
+    seed = getattr(args, "seed", 0)
+    if not 0 <= seed <= MAX_SEED:
+        return f"--seed must be 0..2^64-1 (got {seed if abs(seed) < 10**30 else 'a huge number'})"
     f = getattr(args, "flip_prob", None)
     if f is not None and not 0.0 < f < 0.5:
         return f"--flip-prob must be in (0, 0.5) (got {f:g})"
@@ -107,7 +152,11 @@ def _check_args(args) -> str | None:
         return f"--simulate must be at least 1 (got {trials})"
     plot = getattr(args, "plot", None)
     if plot is not None and Path(plot).suffix.lower() not in (".png", ".svg"):
-        return f"--plot must name a .png or .svg file (got {plot})"
+        return f"--plot must name a .png or .svg file (got {show_path(plot)})"
+    for option in ("json", "depfile"):
+        value = getattr(args, option, None)
+        if value is not None and value != STDOUT and os.path.isdir(value):
+            return f"--{option} {show_path(value)} is a folder; name a file (or - for stdout)"
     return None
 
 
@@ -119,8 +168,12 @@ def parser() -> argparse.ArgumentParser:
     g = sub.add_parser("generate", help="render the C module of each spec")
     g.add_argument("specs", nargs="+", metavar="SPEC")
     g.add_argument("-o", "--output", required=True, metavar="DIR", help="folder for the .h/.c files")
-    g.add_argument("--check", action="store_true", help="write nothing; exit 1 when any file is stale")
-    g.add_argument("--depfile", metavar="FILE", help="also write a make rule: outputs depend on the specs")
+    g.add_argument("--check", action="store_true",
+                   help="write nothing; list missing or stale files and exit 1 when there are any")
+    g.add_argument("--depfile", metavar="FILE",
+                   help="also write a make rule: outputs depend on the specs, templates and bitmend's "
+                        "version (- for stdout)")
+    g.add_argument("--profile", choices=specmod.PROFILES, help="override every spec's [c] profile")
     g.set_defaults(func=cmd_generate)
 
     v = sub.add_parser("verify", help="compile the C and compare it bit for bit with the model")
@@ -130,7 +183,7 @@ def parser() -> argparse.ArgumentParser:
                    help="most cases per kind of error pattern (default 2000)")
     v.add_argument("--profile", action="append", choices=specmod.PROFILES,
                    help="profile(s) to verify (default: the spec's own); repeatable")
-    v.add_argument("--json", metavar="FILE", help="also write the results as JSON")
+    v.add_argument("--json", metavar="FILE", help="also write the results as JSON (- for stdout)")
     v.set_defaults(func=cmd_verify)
 
     a = sub.add_parser("analyze", help="what the code buys on a binary symmetric channel")
@@ -141,7 +194,7 @@ def parser() -> argparse.ArgumentParser:
                    help="also run N random channel trials through the compiled C")
     a.add_argument("--seed", type=int, default=1, help="random seed of the simulation (default 1)")
     a.add_argument("--plot", metavar="FILE", help="draw the figures into FILE (.png or .svg)")
-    a.add_argument("--json", metavar="FILE", help="also write the figures as JSON")
+    a.add_argument("--json", metavar="FILE", help="also write the figures as JSON (- for stdout)")
     a.set_defaults(func=cmd_analyze)
 
     r = sub.add_parser("recommend", help="the cheapest code that meets a failure target on a channel")
@@ -154,10 +207,16 @@ def parser() -> argparse.ArgumentParser:
                    help=f"families to search (default all: {', '.join(specmod.FAMILIES)})")
     r.add_argument("--profile", choices=specmod.PROFILES, default="fast",
                    help="C profile whose table sizes count (default fast)")
-    r.add_argument("--json", metavar="FILE", help="also write the candidates as JSON")
-    r.add_argument("--write", metavar="DIR", help="write the best candidate as a spec file into DIR")
+    r.add_argument("--json", metavar="FILE", help="also write the candidates as JSON (- for stdout)")
+    r.add_argument("--write", metavar="DIR",
+                   help="write the best candidate as a spec file into DIR (- for stdout)")
+    r.add_argument("--force", action="store_true", help="let --write replace an existing spec file")
     r.set_defaults(func=cmd_recommend)
     return p
+
+
+def _terminate(signum, frame):
+    raise _Terminated()
 
 
 def main(argv: list[str] | None = None) -> int:
@@ -168,15 +227,38 @@ def main(argv: list[str] | None = None) -> int:
             parser().error(problem)
     except SystemExit as done:                 # --help, --version, usage errors
         return done.code if isinstance(done.code, int) else EXIT_BAD_INPUT
+    main_thread = threading.current_thread() is threading.main_thread()
+    old = {s: signal.signal(s, _terminate) for s in (signal.SIGTERM, signal.SIGHUP)} if main_thread else {}
     try:
-        return args.func(args)
+        code = args.func(args)
+        sys.stdout.flush()
+        return code
     except specmod.SpecError as err:
         for problem in err.problems:
             print(problem, file=sys.stderr)
         return EXIT_BAD_INPUT
-    except OSError as err:
-        print(f"bitmend: {err.filename or ''}: {err.strerror}", file=sys.stderr)
+    except emit.WriteError as err:
+        print(f"bitmend: {err}", file=sys.stderr)
         return EXIT_BAD_INPUT
+    except harness.BuildError as err:
+        print(f"bitmend: {specmod.escape(err.summary, 400)}", file=sys.stderr)
+        return EXIT_FAILED
+    except BrokenPipeError:                    # `bitmend ... | head`: the reader left; say nothing
+        os.dup2(os.open(os.devnull, os.O_WRONLY), sys.stdout.fileno())
+        return EXIT_PIPE
+    except KeyboardInterrupt:
+        print("bitmend: interrupted", file=sys.stderr)
+        return EXIT_INTERRUPTED
+    except _Terminated:
+        print("bitmend: terminated", file=sys.stderr)
+        return EXIT_TERMINATED
+    except OSError as err:
+        where = f"{show_path(err.filename)}: " if err.filename else ""
+        print(f"bitmend: {where}{err.strerror or err}", file=sys.stderr)
+        return EXIT_BAD_INPUT
+    finally:
+        for s, handler in old.items():
+            signal.signal(s, handler)
 
 
 if __name__ == "__main__":

@@ -1,18 +1,30 @@
-"""Rendering of the C files: Jinja2 environment, deterministic output, atomic writes, depfiles, --check."""
+"""Rendering of the C files: Jinja2 environment, deterministic output, all-or-nothing writes, depfiles,
+--check.
+
+Every file a command writes (sources, headers, depfile, JSON, specs) goes through `commit`: each new content
+is written to a temporary file in its target folder, then all are renamed into place while signals wait; a
+failure or an interrupt before that leaves every target as it was and removes the temporaries.  Runs into
+the same folder take turns through a lock on the folder itself.
+"""
 from __future__ import annotations
 
+import contextlib
+import fcntl
 import os
+import re
+import signal
 import tempfile
 from dataclasses import dataclass
 from importlib import resources
 from pathlib import Path
 
 import jinja2
+import jinja2.meta
 
 from . import __version__
 from .codes import build
 from .codes.base import CodeModel
-from .spec import Problem, Spec, SpecError
+from .spec import Problem, Spec, SpecError, show_path
 
 
 def _clit(value: int, bits: int) -> str:
@@ -34,6 +46,20 @@ def environment() -> jinja2.Environment:
 class Output:
     path: Path
     text: str
+    sources: tuple[Path, ...] = ()      # what the text was made from: spec, templates, version stamp
+
+    @property
+    def data(self) -> bytes:
+        # surrogateescape: a non-UTF-8 file name inside a depfile goes out as the bytes it came in as
+        return self.text.encode("utf-8", "surrogateescape")
+
+
+class WriteError(Exception):
+    """An output could not be written; names the target (never a temporary).  Nothing was changed."""
+
+    def __init__(self, path, reason: str):
+        self.path, self.reason = Path(path), reason
+        super().__init__(f"{show_path(path)}: {reason}")
 
 
 def render(model: CodeModel, env: jinja2.Environment | None = None) -> dict[str, str]:
@@ -49,16 +75,37 @@ def render(model: CodeModel, env: jinja2.Environment | None = None) -> dict[str,
     return out
 
 
+def template_files(model: CodeModel, env: jinja2.Environment | None = None) -> list[Path]:
+    """The template files a model's output is rendered from, includes and imports followed."""
+    env = env or environment()
+    todo = [f"{model.template}.{ext}.j2" for ext in ("h", "c")]
+    seen: dict[str, Path] = {}
+    while todo:
+        name = todo.pop()
+        if name in seen:
+            continue
+        source, filename, _ = env.loader.get_source(env, name)
+        seen[name] = Path(filename)
+        todo.extend(n for n in jinja2.meta.find_referenced_templates(env.parse(source)) if n)
+    return [seen[n] for n in sorted(seen)]
+
+
+def version_stamp() -> Path:
+    """The installed file that holds the package version: upgrading bitmend changes it."""
+    return Path(resources.files("codegen") / "__init__.py")
+
+
 def plan(specs: list[Spec], outdir: Path) -> list[Output]:
     """Every file the specs produce, rendered in memory; raises SpecError before anything is written."""
     problems: list[Problem] = []
-    seen: dict[str, str] = {}
+    seen: dict[str, Spec] = {}
     models = []
     for spec in specs:
         if spec.name in seen:
-            problems.append(spec.problem("code", "name", f"same name as in {seen[spec.name]}", spec.name))
+            first = seen[spec.name]
+            problems.append(Problem(spec.path, "code", "name", f"same name as in {first.path}", spec.name))
             continue
-        seen[spec.name] = spec.source_name
+        seen[spec.name] = spec
         try:
             models.append(build(spec))
         except SpecError as err:
@@ -68,53 +115,206 @@ def plan(specs: list[Spec], outdir: Path) -> list[Output]:
     env = environment()
     outputs = []
     for model in models:
+        sources = (Path(model.spec.path), *template_files(model, env), version_stamp())
         for fname, text in render(model, env).items():
-            outputs.append(Output(outdir / fname, text))
+            outputs.append(Output(outdir / fname, text, sources))
     return outputs
 
 
-def stale(outputs: list[Output]) -> list[Path]:
-    """Outputs whose file is missing or differs."""
+def _current(path: Path) -> bytes | None:
+    try:
+        with open(path, "rb") as fh:
+            return fh.read()
+    except OSError:
+        return None
+
+
+def stale(outputs: list[Output]) -> list[tuple[Path, str]]:
+    """(path, "missing" or "stale") for every output whose file is absent or differs."""
     out = []
     for o in outputs:
-        try:
-            current = o.path.read_text(encoding="utf-8")
-        except (OSError, UnicodeDecodeError):
-            current = None
-        if current != o.text:
-            out.append(o.path)
+        current = _current(o.path)
+        if current != o.data:
+            out.append((o.path, "missing" if current is None and not o.path.exists() else "stale"))
     return out
 
 
-def write_atomic(path: Path, text: str) -> None:
-    """Write via a temporary file in the same folder and rename, so a reader never sees half a file."""
-    path.parent.mkdir(parents=True, exist_ok=True)
-    fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".tmp", dir=path.parent)
+def _umask() -> int:
+    mask = os.umask(0o022)
+    os.umask(mask)
+    return mask
+
+
+@contextlib.contextmanager
+def _signals_held():
+    """Delay SIGINT/SIGTERM/SIGHUP until the block is done, so renames are never cut half-way."""
+    held = {signal.SIGINT, signal.SIGTERM, signal.SIGHUP}
+    old = signal.pthread_sigmask(signal.SIG_BLOCK, held)
     try:
-        with os.fdopen(fd, "w", encoding="utf-8", newline="\n") as fh:
-            fh.write(text)
-        os.replace(tmp, path)
+        yield
+    finally:
+        signal.pthread_sigmask(signal.SIG_SETMASK, old)
+
+
+@contextlib.contextmanager
+def _folder_lock(folder: Path):
+    """Exclusive flock on the folder itself: concurrent runs into one folder take turns, and no lock
+    file is left among the outputs."""
+    fd = os.open(folder, os.O_RDONLY | os.O_DIRECTORY)
+    try:
+        fcntl.flock(fd, fcntl.LOCK_EX)
+        yield
+    finally:
+        os.close(fd)
+
+
+def _make_folders(folders) -> list[Path]:
+    """Create missing folders; returns the ones created, deepest last."""
+    made = []
+    for folder in folders:
+        missing = []
+        for p in (folder, *folder.parents):
+            if p.exists():
+                break
+            missing.append(p)
+        for p in reversed(missing):
+            try:
+                p.mkdir()
+            except FileExistsError:
+                pass
+            except OSError as exc:
+                _remove_folders(made)
+                raise WriteError(p, f"cannot create the folder: {exc.strerror}") from None
+            else:
+                made.append(p)
+        if not folder.is_dir():
+            _remove_folders(made)
+            raise WriteError(folder, "is not a folder")
+    return made
+
+
+def _remove_folders(made: list[Path]) -> None:
+    for p in reversed(made):
+        with contextlib.suppress(OSError):
+            p.rmdir()
+
+
+def _temporary(path: Path, data: bytes, mode: int) -> Path:
+    fd, tmp = tempfile.mkstemp(prefix=f".{path.name[:40]}.", suffix=".tmp", dir=path.parent)
+    try:
+        with os.fdopen(fd, "wb") as fh:
+            fh.write(data)
+            os.fchmod(fh.fileno(), mode)
     except BaseException:
         Path(tmp).unlink(missing_ok=True)
         raise
+    return Path(tmp)
 
 
-def write(outputs: list[Output]) -> list[Path]:
-    """Write the outputs whose content changed; returns the paths written."""
-    changed = stale(outputs)
-    wanted = {o.path: o.text for o in outputs}
-    for path in changed:
-        write_atomic(path, wanted[path])
-    return changed
+def _rename_all(temps: dict[Path, Path]) -> None:
+    """Move every temporary onto its target; on a failure put back every target already replaced."""
+    done: list[tuple[Path, Path | None]] = []             # (target, hard link to its old content)
+    try:
+        for target, tmp in temps.items():
+            backup = None
+            if target.exists():
+                backup = tmp.with_name(tmp.name + ".old")
+                try:
+                    os.link(target, backup)
+                except OSError:
+                    backup = None
+            done.append((target, backup))
+            try:
+                os.replace(tmp, target)
+            except OSError as exc:
+                raise WriteError(target, exc.strerror or str(exc)) from None
+    except BaseException:
+        for target, backup in reversed(done[:-1]):
+            with contextlib.suppress(OSError):
+                if backup is not None:
+                    os.replace(backup, target)
+                else:
+                    target.unlink()
+        raise
+    finally:
+        for _, backup in done:
+            if backup is not None:
+                with contextlib.suppress(OSError):
+                    backup.unlink()
 
 
-def depfile_text(specs: list[Spec], outputs: list[Output]) -> str:
-    """A make rule per spec: its two outputs depend on the spec file."""
-    def esc(p) -> str:
-        return str(p).replace(" ", "\\ ")
-    lines = []
-    for spec in specs:
-        targets = [o.path for o in outputs if o.path.stem == spec.name]
-        lines.append(f"{' '.join(esc(t) for t in targets)}: {esc(spec.path)}")
-        lines.append(f"{esc(spec.path)}:")        # a deleted spec must not break make
+def commit(outputs: list[Output]) -> list[Path]:
+    """Write every output whose content differs, all or nothing; returns the paths written."""
+    seen: dict[str, Path] = {}
+    for o in outputs:
+        key = os.path.abspath(o.path)
+        if key in seen:
+            raise WriteError(o.path, "named twice among this run's outputs")
+        seen[key] = o.path
+    folders = sorted({o.path.parent for o in outputs}, key=os.path.abspath)
+    made = _make_folders(folders)
+    temps: dict[Path, Path] = {}
+    try:
+        with contextlib.ExitStack() as locks:
+            for folder in folders:
+                locks.enter_context(_folder_lock(folder))
+            changed = [o for o in outputs if _current(o.path) != o.data]
+            for o in changed:
+                if o.path.is_dir():
+                    raise WriteError(o.path, "is a folder")
+            mode = 0o666 & ~_umask()
+            for o in changed:
+                try:
+                    temps[o.path] = _temporary(o.path, o.data, mode)
+                except OSError as exc:
+                    raise WriteError(o.path, exc.strerror or str(exc)) from None
+            with _signals_held():
+                _rename_all(temps)
+            temps.clear()
+        return [o.path for o in changed]
+    except BaseException:
+        for tmp in temps.values():
+            tmp.unlink(missing_ok=True)
+        _remove_folders(made)
+        raise
+
+
+def write_atomic(path, text: str) -> None:
+    """One file through `commit`."""
+    commit([Output(Path(path), text)])
+
+
+# -- depfiles ----------------------------------------------------------------------------------------------
+
+# tested against GNU make 4.3 (tests/test_output.py runs make on every case)
+_MAKE_REFUSED = re.compile(r"[;=|\x00-\x1f\x7f]|\\$|^~")
+
+
+def make_escape(path) -> str:
+    """A path as GNU make reads it in a rule: `$` doubled, space # : * ? [ escaped with a backslash (and
+    the backslashes right before them doubled).  Raises ValueError for what a rule cannot hold: ; = |,
+    control characters, a trailing backslash, a leading ~."""
+    text = os.fspath(path)
+    bad = _MAKE_REFUSED.search(text)
+    if bad:
+        raise ValueError(f"make cannot name a file containing {bad.group()!r}")
+    text = re.sub(r"(\\*)([ #:*?\[])", lambda m: m.group(1) * 2 + "\\" + m.group(2), text)
+    return text.replace("$", "$$")
+
+
+def depfile_text(outputs: list[Output]) -> str:
+    """A make rule per group of outputs made from the same sources (one per spec): the outputs depend on
+    the spec, the templates and the package version stamp.  Raises ValueError (see make_escape) for a
+    path make cannot name."""
+    groups: dict[tuple, list[Path]] = {}
+    for o in outputs:
+        groups.setdefault(o.sources, []).append(o.path)
+    lines, listed = [], set()
+    for sources, targets in groups.items():
+        lines.append(f"{' '.join(map(make_escape, targets))}: {' '.join(map(make_escape, sources))}")
+    for sources in groups:
+        for p in sources:
+            if p not in listed:                         # a deleted prerequisite must not break make
+                listed.add(p)
+                lines.append(f"{make_escape(p)}:")
     return "\n".join(lines) + "\n"

@@ -42,7 +42,27 @@ _CONTRACT_MACROS = ("DATA_BYTES", "PARITY_BYTES", "CORRECTABLE", "ERR_UNCORRECTA
 
 
 class BuildError(RuntimeError):
-    """The emitted C did not compile cleanly, or its header breaks the contract."""
+    """The emitted C did not compile cleanly, or its header breaks the contract.  `summary` is one line
+    (compiler, flags, the compiler's first error line); the full text follows it in str()."""
+
+    def __init__(self, summary: str, details: str = ""):
+        self.summary = summary
+        super().__init__(f"{summary}\n{details}" if details else summary)
+
+
+def _run(cmd: list[str], **kwargs) -> subprocess.CompletedProcess:
+    """Run a compiler; a missing or unusable one is a BuildError naming it."""
+    try:
+        return subprocess.run(cmd, capture_output=True, text=True, errors="replace", **kwargs)
+    except OSError as exc:
+        raise BuildError(f"cannot run the C compiler {cmd[0]!r} (set CC): {exc.strerror or exc}") from None
+
+
+def _failed(cmd: list[str], res: subprocess.CompletedProcess) -> BuildError:
+    lines = [line for line in res.stderr.splitlines() if line.strip()]
+    first = next((line for line in lines if "error" in line), lines[0] if lines else
+                 f"exit status {res.returncode} and no message")
+    return BuildError(f"{' '.join(cmd)} failed: {first.strip()}", res.stderr)
 
 
 def compiler() -> str:
@@ -56,9 +76,9 @@ def cache_root() -> Path:
 def compile_object(c_file: Path, obj: Path, cc: str | None = None, extra: tuple = ()) -> None:
     """Compile one C file with the strict flags; raise BuildError with the compiler's words."""
     cmd = [cc or compiler(), *STRICT_FLAGS, "-O2", "-fPIC", *extra, "-c", str(c_file), "-o", str(obj)]
-    res = subprocess.run(cmd, capture_output=True, text=True)
+    res = _run(cmd)
     if res.returncode != 0:
-        raise BuildError(f"{' '.join(cmd)}\n{res.stderr}")
+        raise _failed(cmd, res)
 
 
 # -- header -> cffi declarations -------------------------------------------------------------------------
@@ -86,10 +106,10 @@ def _norm(sig: str) -> str:
 def declarations(header: str, name: str, cc: str | None = None) -> tuple[str, dict[str, str]]:
     """(cdef text, {function name: signature}) from an emitted header; checks the contract."""
     body = "\n".join(line for line in header.splitlines() if not line.lstrip().startswith("#include"))
-    res = subprocess.run([cc or compiler(), "-E", "-P", "-x", "c", "-"], input=_PRELUDE + body,
-                         capture_output=True, text=True)
+    cmd = [cc or compiler(), "-E", "-P", "-x", "c", "-"]
+    res = _run(cmd, input=_PRELUDE + body)
     if res.returncode != 0:
-        raise BuildError(f"preprocessing {name}.h failed:\n{res.stderr}")
+        raise _failed(cmd + [f"(preprocessing {name}.h)"], res)
     ast = c_parser.CParser().parse(res.stdout, filename=f"{name}.h")
     gen = c_generator.CGenerator()
     typedefs, funcs, cdecls = [], {}, []
@@ -137,12 +157,21 @@ def build(name: str, files: dict[str, str], cc: str | None = None) -> "Module":
     lib_path = next(final.glob(f"{modname}*.so"), None) if final.is_dir() else None
     if lib_path is None:
         lib_path = _compile(name, modname, header, source, cdef, cc, final)
-    spec = importlib.util.spec_from_file_location(modname, lib_path)
-    mod = importlib.util.module_from_spec(spec)
-    spec.loader.exec_module(mod)
+    try:
+        mod = _load(modname, lib_path)
+    except ImportError:                      # a damaged cache entry (truncated, foreign): build it again
+        shutil.rmtree(final, ignore_errors=True)
+        mod = _load(modname, _compile(name, modname, header, source, cdef, cc, final))
     module = Module(name, mod.ffi, mod.lib, funcs)
     _loaded[key] = module
     return module
+
+
+def _load(modname: str, lib_path: Path):
+    spec = importlib.util.spec_from_file_location(modname, lib_path)
+    mod = importlib.util.module_from_spec(spec)
+    spec.loader.exec_module(mod)
+    return mod
 
 
 def _compile(name, modname, header, source, cdef, cc, final: Path) -> Path:
@@ -160,6 +189,9 @@ def _compile(name, modname, header, source, cdef, cc, final: Path) -> Path:
         os.environ["CC"] = cc
         try:
             built = Path(ffi.compile(tmpdir=str(work), verbose=False))
+        except Exception as exc:             # distutils' CompileError/LinkError, cffi's VerificationError
+            first = str(exc).strip().splitlines()[0] if str(exc).strip() else type(exc).__name__
+            raise BuildError(f"{cc}: building the cffi extension of {name} failed: {first}") from None
         finally:
             if env_cc is None:
                 os.environ.pop("CC", None)

@@ -9,14 +9,49 @@ from __future__ import annotations
 
 import dataclasses
 import hashlib
+import os
 import re
+import stat
 import tomllib
+import unicodedata
 from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
 
 
 NO_VALUE = object()          # a Problem without a "got" value
+MAX_SPEC_BYTES = 1 << 20     # a spec file is a few hundred bytes; anything above 1 MiB is not one
+SHOWN_CHARS = 60             # user text in a message is cut to this many characters
+
+_ESCAPES = {"\n": "\\n", "\r": "\\r", "\t": "\\t"}
+
+
+def escape(text: str, limit: int | None = SHOWN_CHARS) -> str:
+    """User text made safe for one terminal line: control, format and unassigned characters (and the
+    undecodable bytes of a file name) shown as escapes (\\n, \\x1b, \\u202e), cut to `limit` characters
+    with "..." at the end."""
+    out = []
+    for ch in str(text):
+        code = ord(ch)
+        if ch in _ESCAPES:
+            out.append(_ESCAPES[ch])
+        elif 0xDC80 <= code <= 0xDCFF:                    # a byte os.fsdecode could not decode
+            out.append(f"\\x{code - 0xDC00:02x}")
+        elif unicodedata.category(ch)[0] in "CZ" and ch != " ":
+            out.append(f"\\x{code:02x}" if code < 0x100 else f"\\u{code:04x}" if code < 0x10000
+                       else f"\\U{code:08x}")
+        else:
+            out.append(ch)
+    shown = "".join(out)
+    if limit is not None and len(shown) > limit:
+        shown = shown[:limit - 3] + "..."
+    return shown
+
+
+def show_path(path) -> str:
+    """A file name as it appears in a message: escaped, shortened from the left (the end says most)."""
+    text = escape(os.fspath(path), None)
+    return text if len(text) <= 2 * SHOWN_CHARS else "..." + text[-(2 * SHOWN_CHARS - 3):]
 
 
 @dataclass(frozen=True)
@@ -28,18 +63,23 @@ class Problem:
     got: Any = NO_VALUE
 
     def __str__(self) -> str:
-        where = f"[{self.table}] {self.key}" if self.key else f"[{self.table}]"
-        text = f"{self.file}: {where}: {self.message}"
+        where = f"[{escape(self.table)}] {escape(self.key)}" if self.key else f"[{escape(self.table)}]"
+        text = f"{show_path(self.file)}: {where}: {escape(self.message, None)}"
         if self.got is not NO_VALUE:
             text += f" (got {_show(self.got)})"
         return text
 
 
 class SpecError(Exception):
-    """One or more problems in user input; the CLI prints each on its own line and exits 2."""
+    """One or more problems in user input; the CLI prints each on its own line and exits 2.
 
-    def __init__(self, problems: list[Problem]):
+    `partial` is the spec as far as it could be read, when its family tables were complete: a code model
+    can still add its own problems to the same report (see `codes.check`).
+    """
+
+    def __init__(self, problems: list[Problem], partial: "Spec | None" = None):
         self.problems = tuple(problems)
+        self.partial = partial
         super().__init__("\n".join(str(p) for p in self.problems))
 
 
@@ -51,9 +91,22 @@ def _show(value: Any) -> str:
     if isinstance(value, bool):
         return "true" if value else "false"
     if isinstance(value, str):
-        text = value if len(value) <= 60 else value[:57] + "..."
-        return repr(text)
-    return repr(value)
+        return '"' + escape(value).replace('"', '\\"') + '"'
+    if isinstance(value, int) and value.bit_length() > 64:    # str() of a huge int may refuse to work
+        return f"an integer of {value.bit_length()} bits"
+    return escape(str(value))
+
+
+def sort_problems(problems) -> list[Problem]:
+    """File by file (in the order given), table by table as a spec lists them, then key."""
+    order = ["file", "code", "c"] + [t for tables in FAMILIES.values() for t in tables]
+    files = list(dict.fromkeys(p.file for p in problems))
+
+    def rank(p: Problem):
+        table = order.index(p.table) if p.table in order else len(order)
+        return files.index(p.file), table, p.table, p.key
+
+    return sorted(problems, key=rank)
 
 
 def _rng(lo: int | None = None, hi: int | None = None) -> dict:
@@ -120,9 +173,35 @@ C_KEYWORDS = frozenset("""
     asm bool true false main
 """.split())
 NAME_RE = re.compile(r"[a-z][a-z0-9_]{0,39}")
+# `<name>.h` must not shadow a header a firmware build includes: C99 to C17 (and C23's two new ones),
+# POSIX.1-2017's top-level headers, and the libc extras newlib and glibc put beside them.
+STANDARD_HEADERS = frozenset("""
+    assert complex ctype errno fenv float inttypes iso646 limits locale math setjmp signal stdalign stdarg
+    stdatomic stdbool stddef stdint stdio stdlib stdnoreturn string tgmath threads time uchar wchar wctype
+    stdbit stdckdint
+    aio cpio dirent dlfcn fcntl fmtmsg fnmatch ftw glob grp iconv langinfo libgen monetary mqueue ndbm netdb
+    nl_types poll pthread pwd regex sched search semaphore spawn strings stropts syslog tar termios trace
+    ulimit unistd utime utmpx wordexp
+    alloca malloc memory endian features ieeefp reent byteswap
+""".split())
+# Prefixes that make identifiers the C standard reserves (C17 7.31 "future library directions", from
+# memory; the upper-case macros P_... count as the name upper-cased), plus C++'s double underscore.
+RESERVED_NAMES = (
+    (re.compile(r"(is|to)[a-z]"), "external names is*/to* are reserved for <ctype.h>"),
+    (re.compile(r"(str|mem|wcs)[a-z]"), "external names str*/mem*/wcs* are reserved for <string.h>"),
+    (re.compile(r"e[a-z0-9]"), "macros E<letter or digit>... are reserved for <errno.h>"),
+    (re.compile(r"sig[a-z_]"), "macros SIG... are reserved for <signal.h>"),
+    (re.compile(r"lc_[a-z]"), "macros LC_... are reserved for <locale.h>"),
+    (re.compile(r"(pri|scn)x"), "macros PRIX.../SCNX... are reserved for <inttypes.h>"),
+    (re.compile(r"u?int"), "names int*/uint*_t and their macros are reserved for <stdint.h>"),
+    (re.compile(r"(fe|time|atomic|memory_order|cnd|mtx|thrd|tss|posix|pthread)_"),
+     "this prefix is reserved for a standard header"),
+    (re.compile(r".*(__|_$)"), "a double underscore in an identifier is reserved (C++ reads these headers)"),
+)
 # Only a GCC/Clang attribute list of section / aligned / used, never arbitrary text (it is pasted into C).
-_ATTR_ITEM = r'(?:section\("[.A-Za-z0-9_]{1,64}"\)|aligned\([0-9]{1,4}\)|used)'
+_ATTR_ITEM = r'(?:section\("[.A-Za-z0-9_]{1,64}"\)|aligned\([0-9]{1,5}\)|used)'
 TABLE_ATTR_RE = re.compile(rf"__attribute__\(\({_ATTR_ITEM}(?:, ?{_ATTR_ITEM})*\)\)")
+MAX_ALIGN = 4096             # aligned(N): a power of two, 1..4096 (a page; every ELF toolchain takes it)
 
 
 @dataclass(frozen=True)
@@ -151,23 +230,63 @@ class Spec:
         return dataclasses.replace(self, profile=profile)
 
 
+def read_limited(path: str | Path, limit: int = MAX_SPEC_BYTES) -> bytes:
+    """The bytes of a regular file of at most `limit` bytes.  Never blocks on a FIFO or reads a device;
+    raises SpecError (table "file") for anything else."""
+    path = Path(path)
+
+    def fail(message: str):
+        raise SpecError([Problem(path.name or os.fspath(path), "file", "", message)])
+
+    try:
+        fd = os.open(path, os.O_RDONLY | os.O_NONBLOCK | getattr(os, "O_NOCTTY", 0))
+    except (OSError, ValueError) as exc:
+        fail(f"cannot read: {getattr(exc, 'strerror', None) or exc}")
+    try:
+        info = os.fstat(fd)
+        if stat.S_ISDIR(info.st_mode):
+            fail("is a folder, not a spec file")
+        if not stat.S_ISREG(info.st_mode):
+            fail("not a regular file (a pipe or a device cannot be a spec)")
+        if info.st_size > limit:
+            fail(f"larger than {limit} bytes ({info.st_size} bytes)")
+        chunks, size = [], 0
+        while size <= limit:
+            chunk = os.read(fd, limit + 1 - size)
+            if not chunk:
+                break
+            chunks.append(chunk)
+            size += len(chunk)
+        if size > limit:
+            fail(f"larger than {limit} bytes")
+        return b"".join(chunks)
+    except OSError as exc:
+        fail(f"cannot read: {exc.strerror or exc}")
+    finally:
+        os.close(fd)
+
+
 def load(path: str | Path) -> Spec:
     """Read and validate one spec file; raise SpecError listing every problem."""
     path = Path(path)
-    label = path.name
-    try:
-        raw = path.read_bytes()
-    except OSError as exc:
-        raise SpecError([Problem(label, "file", "", f"cannot read: {exc.strerror or exc}")]) from None
+    raw = read_limited(path)
+
+    def fail(message: str):
+        raise SpecError([Problem(path.name or os.fspath(path), "file", "", message)])
+
     try:
         text = raw.decode("utf-8")
-    except UnicodeDecodeError:
-        raise SpecError([Problem(label, "file", "", "not UTF-8 text")]) from None
+    except UnicodeDecodeError as exc:
+        fail(f"not UTF-8 text (byte {exc.start})")
     try:
         doc = tomllib.loads(text)
     except tomllib.TOMLDecodeError as exc:
-        raise SpecError([Problem(label, "file", "", f"TOML syntax error: {exc}")]) from None
-    return parse(doc, str(path), hashlib.sha256(raw).hexdigest())
+        fail(f"TOML syntax error: {exc}")
+    except ValueError:                     # int() beyond the interpreter's digit limit
+        fail("TOML value error: an integer with more digits than Python converts (4300)")
+    except RecursionError:
+        fail("TOML value error: arrays or inline tables nested too deeply")
+    return parse(doc, os.fspath(path), hashlib.sha256(raw).hexdigest())
 
 
 def parse(doc: dict, path: str, sha256: str = "") -> Spec:
@@ -189,6 +308,13 @@ def parse(doc: dict, path: str, sha256: str = "") -> Spec:
                 "at most 40 characters", name)
         elif name in C_KEYWORDS:
             bad("code", "name", "is a C keyword or reserved name", name)
+        elif name in STANDARD_HEADERS:
+            bad("code", "name", f"{name}.h would shadow the standard header <{name}.h>", name)
+        else:
+            for pattern, why in RESERVED_NAMES:
+                if pattern.match(name):
+                    bad("code", "name", f"makes reserved identifiers: {why}", name)
+                    break
 
     family = _string(code, "code", "family", bad)
     if family is not None and family not in FAMILIES:
@@ -206,6 +332,10 @@ def parse(doc: dict, path: str, sha256: str = "") -> Spec:
         if table_attr and not TABLE_ATTR_RE.fullmatch(table_attr):
             bad("c", "table_attr", 'must be __attribute__((...)) listing only section("..."), aligned(N) '
                 "or used", table_attr)
+        elif table_attr:
+            for n in map(int, re.findall(r"aligned\(([0-9]+)\)", table_attr)):
+                if not 1 <= n <= MAX_ALIGN or n & (n - 1):
+                    bad("c", "table_attr", f"aligned(N) needs N a power of two, 1..{MAX_ALIGN}", n)
 
     if family:
         known = {"code", "c"} | set(FAMILIES[family])
@@ -224,7 +354,11 @@ def parse(doc: dict, path: str, sha256: str = "") -> Spec:
             _check_crc(params["crc"], bad)
 
     if problems:
-        raise SpecError(problems)
+        partial = None
+        if family and len(params) == len(FAMILIES[family]):     # the model can still look at its tables
+            partial = Spec(path=path, sha256=sha256, name=name or "", family=family,
+                           profile=profile if profile in PROFILES else "fast", table_attr="", params=params)
+        raise SpecError(sort_problems(problems), partial)
     return Spec(path=path, sha256=sha256, name=name, family=family, profile=profile,
                 table_attr=table_attr, params=params)
 

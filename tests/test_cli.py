@@ -84,9 +84,12 @@ def test_depfile_is_a_make_rule(tmp_path):
     dep = tmp_path / "pkt.d"
     assert cli.main(["generate", str(spec), "-o", str(out), "--depfile", str(dep)]) == 0
     rule = dep.read_text().splitlines()[0]
-    targets, prereq = rule.split(": ")
+    targets, prereqs = rule.split(": ")
     assert set(targets.split()) == {str(out / "pkt.h"), str(out / "pkt.c")}
-    assert prereq == str(spec)
+    prereqs = prereqs.split()
+    assert prereqs[0] == str(spec) and prereqs[-1].endswith("codegen/__init__.py")     # the version stamp
+    assert {os.path.basename(p) for p in prereqs[1:-1]} == {
+        "crc_repetition.h.j2", "crc_repetition.c.j2", "_common.j2"}
     if shutil.which("make"):       # make reads it: touching the spec makes the outputs out of date
         mk = tmp_path / "Makefile"
         mk.write_text(f"include {dep}\n{out / 'pkt.c'}:\n\t@true\n")

@@ -105,12 +105,18 @@ def test_one_bad_spec_among_good_writes_nothing(tmp_path, capsys):
     assert not out.exists()
 
 
-def test_duplicate_names_rejected(tmp_path, capsys):
-    a, b = tmp_path / "a.toml", tmp_path / "b.toml"
+def test_duplicate_names_report_both_paths(tmp_path, capsys):
+    """Two specs with the same base name in different folders: the line names both folders."""
+    (tmp_path / "one").mkdir()
+    (tmp_path / "two").mkdir()
+    a, b = tmp_path / "one" / "soil.toml", tmp_path / "two" / "soil.toml"
     a.write_text(GOOD)
     b.write_text(GOOD)
     assert cli.main(["generate", str(a), str(b), "-o", str(tmp_path / "o")]) == 2
-    assert "[code] name: same name as in a.toml" in capsys.readouterr().err
+    err = capsys.readouterr().err
+    assert err.count("\n") == 1
+    assert err.startswith(f"{b}: [code] name: same name as in {a}"), err
+    assert not (tmp_path / "o").exists()
 
 
 def test_hex_and_defaults(tmp_path):

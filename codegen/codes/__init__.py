@@ -3,7 +3,7 @@ from __future__ import annotations
 
 import importlib
 
-from ..spec import Spec
+from ..spec import Spec, SpecError, load, sort_problems
 from .base import CodeModel
 
 # family name (the spec's [code] family) -> "module:Class" under codegen.codes
@@ -19,3 +19,24 @@ def build(spec: Spec) -> CodeModel:
     """The model for a validated spec; raises SpecError for problems only the model can see."""
     module, cls = REGISTRY[spec.family].split(":")
     return getattr(importlib.import_module(f"{__name__}.{module}"), cls)(spec)
+
+
+def load_specs(paths) -> list[Spec]:
+    """Read every spec file.  When any has a problem, every file's model checks run as well (on what could
+    be read), so one SpecError lists all problems of all files at once, sorted per file by table."""
+    specs, problems = [], []
+    for path in paths:
+        try:
+            specs.append(load(path))
+        except SpecError as err:
+            problems.extend(err.problems)
+            if err.partial is not None:
+                specs.append(err.partial)
+    if problems:
+        for spec in specs:
+            try:
+                build(spec)
+            except SpecError as err:
+                problems.extend(err.problems)
+        raise SpecError(sort_problems(problems))
+    return specs
