@@ -287,13 +287,13 @@ def write_atomic(path, text: str) -> None:
 # -- depfiles ----------------------------------------------------------------------------------------------
 
 # tested against GNU make 4.3 (tests/test_output.py runs make on every case)
-_MAKE_REFUSED = re.compile(r"[;=|\x00-\x1f\x7f]|\\$|^~")
+_MAKE_REFUSED = re.compile(r"[;=|%\x00-\x1f\x7f]|^~")
 
 
 def make_escape(path) -> str:
     """A path as GNU make reads it in a rule: `$` doubled, space # : * ? [ escaped with a backslash (and
-    the backslashes right before them doubled).  Raises ValueError for what a rule cannot hold: ; = |,
-    control characters, a trailing backslash, a leading ~."""
+    the backslashes right before them doubled).  Raises ValueError for what a rule cannot hold: ; = | % (a pattern),
+    control characters, a leading ~."""
     text = os.fspath(path)
     bad = _MAKE_REFUSED.search(text)
     if bad:

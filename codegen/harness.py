@@ -60,7 +60,7 @@ def _run(cmd: list[str], **kwargs) -> subprocess.CompletedProcess:
 
 def _failed(cmd: list[str], res: subprocess.CompletedProcess) -> BuildError:
     lines = [line for line in res.stderr.splitlines() if line.strip()]
-    first = next((line for line in lines if "error" in line), lines[0] if lines else
+    first = next((line for line in lines if re.search(r"(^|: )(fatal )?error:", line)), lines[0] if lines else
                  f"exit status {res.returncode} and no message")
     return BuildError(f"{' '.join(cmd)} failed: {first.strip()}", res.stderr)
 
