@@ -130,6 +130,12 @@ def cmd_recommend(args) -> int:
     return EXIT_OK if outcome.candidates else EXIT_FAILED
 
 
+def cmd_list(args) -> int:
+    from . import listing, terminal
+    terminal.show(*listing.all_tables())
+    return EXIT_OK
+
+
 def _check_args(args) -> str | None:
     """The first bad option value, as a message naming the option; None when all are fine."""
     budget = getattr(args, "budget", 1)
@@ -212,6 +218,9 @@ def parser() -> argparse.ArgumentParser:
                    help="write the best candidate as a spec file into DIR (- for stdout)")
     r.add_argument("--force", action="store_true", help="let --write replace an existing spec file")
     r.set_defaults(func=cmd_recommend)
+
+    sub.add_parser("list", help="the families with their keys and ranges, the profiles, the CRC presets"
+                   ).set_defaults(func=cmd_list)
     return p
 
 

@@ -18,6 +18,8 @@ from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
 
+from . import crc_catalogue
+
 
 NO_VALUE = object()          # a Problem without a "got" value
 MAX_SPEC_BYTES = 1 << 20     # a spec file is a few hundred bytes; anything above 1 MiB is not one
@@ -125,6 +127,7 @@ class CrcTable:
     reflect_in: bool = False
     reflect_out: bool = False
     xor_out: int = field(default=0, metadata=_rng(0))
+    preset: str = ""          # a catalogue name; crc_catalogue.expand filled the keys above from it
 
 
 @dataclass(frozen=True)
@@ -347,6 +350,10 @@ def parse(doc: dict, path: str, sha256: str = "") -> Spec:
     if family:
         for tname, cls in FAMILIES[family].items():
             values = _table(doc, tname, bad)
+            if tname == "crc":
+                values = crc_catalogue.expand(values, bad)
+                if values is None:          # an unknown preset, already reported
+                    continue
             obj = _fill(cls, tname, values, bad)
             if obj is not None:
                 params[tname] = obj
@@ -405,8 +412,13 @@ def _fill(cls: type, table: str, values: dict, bad):
                 ok = False
             continue
         value = values[name]
-        kind = bool if f.type in ("bool", bool) else int
-        if kind is bool:
+        kind = {"bool": bool, "str": str}.get(f.type, int)
+        if kind is str:
+            if not isinstance(value, str):
+                bad(table, name, "must be a string", value)
+                ok = False
+                continue
+        elif kind is bool:
             if not isinstance(value, bool):
                 bad(table, name, "must be true or false", value)
                 ok = False

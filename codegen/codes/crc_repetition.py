@@ -183,6 +183,7 @@ class CrcRepetition(CodeModel):
         return {
             "crc_ctype": crc.ctype,
             "crc_check": crc.compute(CHECK_INPUT),
+            "preset": self.spec.table("crc").preset,
             "reg_bits": crc.reg_bits,
             # type a register is widened to before a left shift: never a (possibly 16-bit) signed int
             "shift_type": "unsigned" if crc.reg_bits <= 16 else crc.ctype,
