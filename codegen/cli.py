@@ -136,6 +136,26 @@ def cmd_list(args) -> int:
     return EXIT_OK
 
 
+def cmd_prove(args) -> int:
+    from . import cluster, prove
+    spec = _load_specs([args.spec])[0]
+    try:
+        certs, interrupted = prove.run(spec, args.profile or [spec.profile], args.max_weight, args.data_len,
+                                       args.scheduler, args.workers, args.state)
+    except (prove.ProveError, cluster.Unreachable) as err:
+        print(f"bitmend: {err}", file=sys.stderr)
+        return EXIT_BAD_INPUT
+    _say(args, "\n\n".join(c.table() for c in certs))
+    if args.json:
+        data = [c.as_dict() for c in certs]
+        _deliver(args, [_json_output(args.json, data if len(data) > 1 else data[0])])
+    if interrupted:
+        print("bitmend: interrupted" + (f"; run again with --state {args.state} to go on" if args.state else ""),
+              file=sys.stderr)
+        return EXIT_INTERRUPTED
+    return EXIT_FAILED if any(c.wrong for c in certs) else EXIT_OK
+
+
 def _check_args(args) -> str | None:
     """The first bad option value, as a message naming the option; None when all are fine."""
     budget = getattr(args, "budget", 1)
@@ -221,6 +241,20 @@ def parser() -> argparse.ArgumentParser:
 
     sub.add_parser("list", help="the families with their keys and ranges, the profiles, the CRC presets"
                    ).set_defaults(func=cmd_list)
+
+    pr = sub.add_parser("prove", help="run every error pattern up to a weight through the C, on a Dask cluster")
+    pr.add_argument("spec", metavar="SPEC")
+    pr.add_argument("--max-weight", type=int, metavar="W", help="largest error weight (default t + 1)")
+    pr.add_argument("--profile", action="append", choices=specmod.PROFILES,
+                    help="profile(s) to prove (default: the spec's own); repeatable, one certificate each")
+    pr.add_argument("--data-len", type=int, metavar="N", help="data block length in bytes (default the largest)")
+    pr.add_argument("--scheduler", metavar="ADDRESS", help="a running Dask scheduler, e.g. tcp://host:8786 "
+                    "(default: a local cluster on 127.0.0.1)")
+    pr.add_argument("--workers", type=int, metavar="N", help="worker processes of the local cluster "
+                    "(default one per core)")
+    pr.add_argument("--state", metavar="FILE", help="record finished shards here; an interrupted run resumes")
+    pr.add_argument("--json", metavar="FILE", help="also write the certificate(s) as JSON (- for stdout)")
+    pr.set_defaults(func=cmd_prove)
     return p
 
 

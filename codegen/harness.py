@@ -143,12 +143,16 @@ def declarations(header: str, name: str, cc: str | None = None) -> tuple[str, di
 _loaded: dict[str, "Module"] = {}
 
 
-def build(name: str, files: dict[str, str], cc: str | None = None) -> "Module":
-    """Compile the emitted `<name>.h`/`<name>.c` (texts in `files`) and load them; cached."""
+def build(name: str, files: dict[str, str], cc: str | None = None, extra_cdef: str = "") -> "Module":
+    """Compile the emitted `<name>.h`/`<name>.c` (texts in `files`) and load them; cached.  Any further
+    `.c` file in `files` (a test driver) is compiled with the same flags and linked in; `extra_cdef`
+    declares its functions (to cffi, and to the glue code)."""
     cc = cc or compiler()
-    header, source = files[f"{name}.h"], files[f"{name}.c"]
-    key = hashlib.sha256("\0".join([header, source, cc, " ".join(STRICT_FLAGS), cffi.__version__,
-                                    pycparser.__version__, sys.version]).encode()).hexdigest()[:20]
+    header = files[f"{name}.h"]
+    extras = [f"{k}\0{v}" for k, v in sorted(files.items()) if k not in (f"{name}.h", f"{name}.c")]
+    key = hashlib.sha256("\0".join([header, files[f"{name}.c"], *extras, *([extra_cdef] if extra_cdef else []),
+                                    cc, " ".join(STRICT_FLAGS), cffi.__version__, pycparser.__version__,
+                                    sys.version]).encode()).hexdigest()[:20]
     if key in _loaded:
         return _loaded[key]
     modname = f"_bitmend_{name}_{key}"
@@ -156,12 +160,12 @@ def build(name: str, files: dict[str, str], cc: str | None = None) -> "Module":
     final = cache_root() / "cffi" / key
     lib_path = next(final.glob(f"{modname}*.so"), None) if final.is_dir() else None
     if lib_path is None:
-        lib_path = _compile(name, modname, header, source, cdef, cc, final)
+        lib_path = _compile(name, modname, files, cdef, extra_cdef, cc, final)
     try:
         mod = _load(modname, lib_path)
     except ImportError:                      # a damaged cache entry (truncated, foreign): build it again
         shutil.rmtree(final, ignore_errors=True)
-        mod = _load(modname, _compile(name, modname, header, source, cdef, cc, final))
+        mod = _load(modname, _compile(name, modname, files, cdef, extra_cdef, cc, final))
     module = Module(name, mod.ffi, mod.lib, funcs)
     _loaded[key] = module
     return module
@@ -174,17 +178,21 @@ def _load(modname: str, lib_path: Path):
     return mod
 
 
-def _compile(name, modname, header, source, cdef, cc, final: Path) -> Path:
+def _compile(name, modname, files, cdef, extra_cdef, cc, final: Path) -> Path:
     final.mkdir(parents=True, exist_ok=True)
     with tempfile.TemporaryDirectory(dir=final) as tmp:
         work = Path(tmp)
-        (work / f"{name}.h").write_text(header)
-        (work / f"{name}.c").write_text(source)
-        obj = work / f"{name}.o"
-        compile_object(work / f"{name}.c", obj, cc)
+        objs = []
+        for fname, text in files.items():
+            (work / fname).write_text(text)
+        for fname in files:
+            if fname.endswith(".c"):
+                objs.append(str(work / (fname[:-2] + ".o")))
+                compile_object(work / fname, Path(objs[-1]), cc)
         ffi = cffi.FFI()
-        ffi.cdef(cdef)
-        ffi.set_source(modname, f'#include "{name}.h"', include_dirs=[str(work)], extra_objects=[str(obj)])
+        ffi.cdef(cdef + "\n" + extra_cdef)
+        ffi.set_source(modname, f'#include "{name}.h"\n{extra_cdef}', include_dirs=[str(work)],
+                       extra_objects=objs)
         env_cc = os.environ.get("CC")
         os.environ["CC"] = cc
         try:
@@ -199,7 +207,7 @@ def _compile(name, modname, header, source, cdef, cc, final: Path) -> Path:
                 os.environ["CC"] = env_cc
         target = final / built.name
         os.replace(built, target)            # atomic: a concurrent builder sees all of it or nothing
-        for f in (f"{name}.h", f"{name}.c"):
+        for f in files:
             shutil.copyfile(work / f, final / f)
     return target
 

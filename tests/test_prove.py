@@ -1,0 +1,316 @@
+"""`bitmend prove`: counts per weight against brute force computed here, the same totals on one worker, two
+workers and a cluster started by hand, resuming from a state file, Ctrl-C, wrong decodes, the CLI's errors.
+
+One local Dask cluster (two worker processes on 127.0.0.1) serves the module; the tests that need another
+cluster start it themselves and stop it by its own process ids.
+"""
+from __future__ import annotations
+
+import itertools
+import json
+import math
+import signal
+import subprocess
+import sys
+import time
+from pathlib import Path
+
+import numpy as np
+import pytest
+
+from codegen import cli, cluster, emit, prove
+from codegen import spec as specmod
+from codegen.codes import build
+from conftest import EXAMPLES, rs_toml
+
+DASK = Path(sys.executable).parent / "dask"
+
+CODES = {
+    "h74": '[code]\nname = "h74"\nfamily = "hamming"\n[hamming]\ndata_bits = 4\nsecded = false\n',
+    "secded": '[code]\nname = "sd72"\nfamily = "hamming"\n[hamming]\ndata_bits = 64\nsecded = true\n',
+    "bch15": '[code]\nname = "b15"\nfamily = "bch"\n[bch]\nm = 4\nt = 2\n',
+    "bch63": '[code]\nname = "b63"\nfamily = "bch"\n[bch]\nm = 6\nt = 2\n',
+    "rs4": rs_toml("rs4", 4, 2),
+}
+
+
+@pytest.fixture(scope="module")
+def specs(tmp_path_factory) -> dict[str, Path]:
+    folder = tmp_path_factory.mktemp("prove_specs")
+    out = {}
+    for key, text in CODES.items():
+        out[key] = folder / f"{key}.toml"
+        out[key].write_text(text)
+    return out
+
+
+@pytest.fixture(scope="module")
+def address():
+    """A scheduler and two worker processes on 127.0.0.1 for the whole module."""
+    with cluster.local(2) as local:
+        yield local.scheduler_address
+
+
+def certify(path, address, max_weight=None, **kw) -> prove.Certificate:
+    certs, interrupted = prove.run(specmod.load(path), [specmod.load(path).profile], max_weight,
+                                   scheduler=address, progress=False, **kw)
+    assert not interrupted and len(certs) == 1
+    return certs[0]
+
+
+def rows(cert_or_dict) -> dict[int, tuple]:
+    weights = cert_or_dict["weights"] if isinstance(cert_or_dict, dict) else cert_or_dict.weights
+    return {w["weight"]: (w["patterns"], w["corrected"], w["detected"], w["miscorrected"], w["wrong"])
+            for w in weights}
+
+
+# -- brute force, computed here from syndromes ------------------------------------------------------------
+
+def syndrome_split(columns: np.ndarray, weight: int, t: int) -> tuple[int, int]:
+    """(miscorrected, detected) for every pattern of `weight` units of a bounded-distance decoder: a pattern
+    is miscorrected exactly when its syndrome is the syndrome of some pattern of weight <= t (a zero
+    syndrome included: the received word is then itself a codeword).  `columns[i]` is the syndrome of a
+    single error in unit i, as one integer (XOR adds syndromes)."""
+    within = {0}
+    for w in range(1, t + 1):
+        for combo in itertools.combinations(range(len(columns)), w):
+            within.add(int(np.bitwise_xor.reduce(columns[list(combo)])))
+    combos = np.array(list(itertools.combinations(range(len(columns)), weight)))
+    synd = np.bitwise_xor.reduce(columns[combos], axis=1)
+    mis = int(np.isin(synd, np.array(sorted(within))).sum())
+    return mis, len(combos) - mis
+
+
+def gf_exp(m: int, poly: int) -> list[int]:
+    """alpha^i in GF(2^m) built from the primitive polynomial (common practice, no source)."""
+    out, x = [], 1
+    for _ in range((1 << m) - 1):
+        out.append(x)
+        x <<= 1
+        if x >> m:
+            x ^= poly
+    return out
+
+
+def bch_columns(m: int, poly: int, n: int) -> np.ndarray:
+    """Syndrome (S1, S3) of a single error at each unit of a full-length t = 2 BCH code, packed in one int;
+    unit i (data first, highest degree first) is the coefficient of x^(n - 1 - i)."""
+    exp = gf_exp(m, poly)
+    order = (1 << m) - 1
+    return np.array([exp[(n - 1 - i) % order] << m | exp[3 * (n - 1 - i) % order] for i in range(n)])
+
+
+def test_hamming_7_4_is_perfect(specs, address):
+    # Hamming (7,4) is perfect: every non-zero syndrome is that of one single error, so every pattern of
+    # weight 2 or 3 is decoded to another codeword (closed form, common practice, no source).
+    columns = np.arange(1, 8)                     # the 7 non-zero 3-bit syndromes, one per unit
+    cert = certify(specs["h74"], address, max_weight=3)
+    assert rows(cert) == {1: (7, 7, 0, 0, 0), 2: (21, 0, 0, 21, 0), 3: (35, 0, 0, 35, 0)}
+    assert syndrome_split(columns, 3, 1) == (35, 0)
+    assert cert.complete and cert.wrong == 0
+
+
+def test_secded_72_64(specs, address):
+    # SECDED: every double error has an even non-zero syndrome and is detected (Hsiao, 1970); triple
+    # errors split by whether their odd syndrome is a column of H (syndromes from the model's H, which
+    # test_hamming.py holds to Hsiao's construction).
+    model = build(specmod.load(specs["secded"]))
+    columns = np.array([int("".join(map(str, model.H[:, j])), 2) for j in range(72)])
+    mis, det = syndrome_split(columns, 3, 1)
+    cert = certify(specs["secded"], address, max_weight=3)
+    assert rows(cert) == {1: (72, 72, 0, 0, 0), 2: (2556, 0, 2556, 0, 0), 3: (59640, 0, det, mis, 0)}
+    assert mis > 0 and det > 0
+
+
+@pytest.mark.parametrize("key, m, poly, n, weight_5_codewords", [
+    ("bch15", 4, 0b10011, 15, 18),     # A5 = 18 for BCH(15,7) (its weight enumerator, from memory)
+    ("bch63", 6, 0b1000011, 63, None),
+])
+def test_bch_t_plus_1(specs, address, key, m, poly, n, weight_5_codewords):
+    mis, det = syndrome_split(bch_columns(m, poly, n), 3, 2)
+    if weight_5_codewords is not None:
+        # each weight-5 codeword holds C(5, 3) weight-3 patterns decoded to it
+        assert mis == weight_5_codewords * math.comb(5, 3)
+    cert = certify(specs[key], address)
+    assert rows(cert) == {1: (n, n, 0, 0, 0), 2: (math.comb(n, 2),) + (math.comb(n, 2), 0, 0, 0),
+                          3: (math.comb(n, 3), 0, det, mis, 0)}
+
+
+def test_reed_solomon_every_symbol_value(specs, address):
+    # shortened RS(4,2) over GF(256), x^8+x^4+x^3+x^2+1, roots alpha^0, alpha^1; symbol j (data first) is
+    # the coefficient of x^(3 - j).  A weight-2 pattern is miscorrected exactly when its syndrome is that
+    # of a single error at one of the 4 transmitted positions.
+    exp = np.array(gf_exp(8, 0x11D) * 2)
+    log = np.zeros(256, dtype=np.int64)
+    log[exp[:255]] = np.arange(255)
+    values = np.arange(1, 256)
+
+    def synd(pos, val):                           # (S0, S1) packed: S_i = val * alpha^(i * (3 - pos))
+        return val << 8 | exp[(log[val] + (3 - pos)) % 255]
+
+    singles = {int(x) for pos in range(4) for x in synd(pos, values)}
+    mis = 0
+    for a, b in itertools.combinations(range(4), 2):
+        s = synd(a, values)[:, None] ^ synd(b, values)[None, :]
+        mis += int(np.isin(s, np.array(sorted(singles))).sum())
+    cert = certify(specs["rs4"], address)
+    assert rows(cert) == {1: (4 * 255, 4 * 255, 0, 0, 0), 2: (6 * 255 ** 2, 0, 6 * 255 ** 2 - mis, mis, 0)}
+    assert 0 < mis < 6 * 255 ** 2
+    assert "every one of the 255 non-zero error values" in cert.table()
+
+
+def test_one_worker_and_two_give_the_same_totals(specs, address, tmp_path):
+    two = certify(specs["bch63"], address, shard_seconds=0.01)      # many small shards
+    assert two.workers == 2 and two.complete
+    out = tmp_path / "one.json"
+    assert cli.main(["prove", str(specs["bch63"]), "--workers", "1",
+                     "--json", str(out)]) == 0
+    one = json.loads(out.read_text())
+    assert one["workers"] == 1 and one["complete"] is True
+    assert rows(one) == rows(two)
+
+
+def test_resumed_run_gives_the_same_totals(specs, address, tmp_path):
+    state = tmp_path / "state.jsonl"
+    whole = certify(specs["bch63"], address, max_weight=3, shard_seconds=0.001, state_file=str(state))
+    lines = state.read_text().splitlines()
+    done = [line for line in lines if '"done"' in line]
+    assert len(done) >= 4
+    kept = [line for line in lines if '"plan"' in line] + done[:len(done) // 2]
+    state.write_text("\n".join(kept) + "\n" + done[-1][:25])      # killed while writing a line
+    again = certify(specs["bch63"], address, max_weight=3, state_file=str(state))
+    assert rows(again) == rows(whole) and again.complete
+    assert again.resumed_shards == len(done) // 2
+    assert again.patterns_run == sum(w["patterns"] for w in whole.weights) - sum(
+        json.loads(line)["count"] for line in done[:len(done) // 2])
+
+
+def test_ctrl_c_stops_cleanly_and_the_state_resumes(address, tmp_path):
+    # the 512-byte sector's code at data_len 4: 136 error bits, 410,040 patterns of weight 3
+    state = tmp_path / "state.jsonl"
+    flash = [p for p in EXAMPLES if p.name == "flash_page.toml"][0]
+    args = [str(flash), "--data-len", "4", "--max-weight", "3", "--state", str(state)]
+    proc = subprocess.Popen([sys.executable, "-m", "codegen.cli", "prove", *args, "--scheduler", address],
+                            stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True)
+    try:
+        deadline = time.monotonic() + 60
+        while '"weight": 3, "first"' not in (state.read_text() if state.exists() else ""):
+            assert proc.poll() is None and time.monotonic() < deadline
+            time.sleep(0.05)
+        proc.send_signal(signal.SIGINT)
+        out, err = proc.communicate(timeout=60)
+    finally:
+        if proc.poll() is None:
+            proc.kill()
+            proc.wait()
+    assert proc.returncode == cli.EXIT_INTERRUPTED, err
+    assert "complete: false" in out and "interrupted" in err and "Traceback" not in err
+    cert = certify(flash, address, max_weight=3, data_len=4, state_file=str(state))
+    assert cert.resumed_shards >= 2 and cert.complete
+    # t = 8: every pattern of weight <= 3 is corrected (bounded-distance decoding)
+    assert rows(cert) == {w: (math.comb(136, w), math.comb(136, w), 0, 0, 0) for w in (1, 2, 3)}
+
+
+def test_scheduler_and_worker_started_by_hand(specs, tmp_path):
+    """The README's two commands, on 127.0.0.1, bounded in time, stopped by their process ids."""
+    from distributed import Client
+    info = tmp_path / "scheduler.json"
+    sched = subprocess.Popen([str(DASK), "scheduler", "--host", "127.0.0.1", "--port", "0", "--no-dashboard",
+                              "--scheduler-file", str(info), "--idle-timeout", "120s"],
+                             stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL)
+    worker = None
+    try:
+        deadline = time.monotonic() + 60
+        while not info.exists() or not info.read_text().strip():
+            assert sched.poll() is None and time.monotonic() < deadline
+            time.sleep(0.1)
+        addr = json.loads(info.read_text())["address"]
+        assert addr.startswith("tcp://127.0.0.1:")
+        worker = subprocess.Popen([str(DASK), "worker", addr, "--host", "127.0.0.1", "--nthreads", "1",
+                                   "--nworkers", "1", "--no-dashboard", "--lifetime", "120s"],
+                                  stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL)
+        with Client(addr, timeout="30s") as client:
+            client.wait_for_workers(1, timeout=60)
+        out = tmp_path / "cert.json"
+        assert cli.main(["prove", str(specs["bch15"]), "--scheduler", addr, "--json", str(out)]) == 0
+        got = json.loads(out.read_text())
+        assert got["workers"] == 1 and got["scheduler"] == addr and got["complete"] is True
+        mis, det = syndrome_split(bch_columns(4, 0b10011, 15), 3, 2)
+        assert rows(got)[3] == (455, 0, det, mis, 0)
+    finally:
+        for proc in (worker, sched):
+            if proc is not None:
+                proc.terminate()
+                try:
+                    proc.wait(timeout=20)
+                except subprocess.TimeoutExpired:
+                    proc.kill()
+                    proc.wait()
+
+
+def test_a_wrong_decoder_is_caught(specs, address, monkeypatch, capsys):
+    # h74_decode made to return 2 after correcting one error: a return that breaks the contract
+    render = emit.render
+
+    def broken(model, env=None):
+        files = dict(render(model, env))
+        c = files["h74.c"].replace("int h74_decode(", "static int h74_decode_real(", 1)
+        files["h74.c"] = c + ("int h74_decode(uint8_t *data, size_t data_len, uint8_t *parity)\n"
+                              "{\n    int rc = h74_decode_real(data, data_len, parity);\n"
+                              "    return rc == 1 ? 2 : rc;\n}\n")
+        return files
+
+    monkeypatch.setattr(emit, "render", broken)
+    assert cli.main(["prove", str(specs["h74"]), "--max-weight", "2", "--scheduler", address]) == 1
+    out = capsys.readouterr().out
+    # every single error (7) and every double one (21, miscorrected by one flip) now returns 2
+    assert "28 patterns decoded wrongly" in out
+    assert "! wrong: weight 1 rank 0: data bit 0\n" in out
+    assert "! wrong: weight 1 rank 6: parity bit 2\n" in out       # units: 4 data bits, then 3 parity
+    assert "! wrong: weight 2 rank 0: data bit 0, data bit 1\n" in out
+
+
+# -- the CLI's errors: one line, exit 2, nothing written ----------------------------------------------------
+
+@pytest.mark.parametrize("extra, words", [
+    (["--data-len", "0"], "--data-len must be in 1..1"),
+    (["--max-weight", "0"], "--max-weight must be in 1..7"),
+    (["--max-weight", "8"], "--max-weight must be in 1..7"),
+    (["--workers", "0"], "--workers must be at least 1"),
+    (["--workers", "2", "--scheduler", "tcp://127.0.0.1:1"], "--workers applies to the local cluster only"),
+])
+def test_bad_options(specs, tmp_path, capsys, extra, words):
+    out = tmp_path / "cert.json"
+    assert cli.main(["prove", str(specs["h74"]), *extra, "--json", str(out)]) == 2
+    err = capsys.readouterr().err
+    assert words in err and len(err.strip().splitlines()) == 1
+    assert not out.exists()
+
+
+def test_too_many_symbol_patterns_are_refused_with_their_cost(tmp_path, capsys):
+    beacon = [p for p in EXAMPLES if p.name == "beacon_telemetry.toml"][0]       # RS(28,20), t = 4
+    state = tmp_path / "state.jsonl"
+    assert cli.main(["prove", str(beacon), "--state", str(state)]) == 2         # default W = t + 1 = 5
+    err = capsys.readouterr().err
+    assert "--max-weight 5: weight 4 has 8.66e+13 patterns (C(28, 4) x 255^4 error values)" in err
+    assert "core-days" in err and "choose --max-weight 3 or less" in err
+    assert not state.exists()
+
+
+def test_bad_spec_and_foreign_state_file(specs, tmp_path, capsys):
+    assert cli.main(["prove", str(tmp_path / "missing.toml")]) == 2
+    assert "missing.toml: [file]: cannot read" in capsys.readouterr().err
+    state = tmp_path / "state.jsonl"
+    state.write_text('{"plan": "0123456789abcdef01234567", "weight": 1, "shard": 10}\n')
+    assert cli.main(["prove", str(specs["h74"]), "--state", str(state)]) == 2
+    assert "state of another proof" in capsys.readouterr().err
+    state.write_text("not json\n{}\n")
+    assert cli.main(["prove", str(specs["h74"]), "--state", str(state)]) == 2
+    assert "line 1 is not a bitmend prove state record" in capsys.readouterr().err
+    assert state.read_text() == "not json\n{}\n"
+
+
+def test_unreachable_scheduler(specs, monkeypatch, capsys):
+    monkeypatch.setattr(cluster, "CONNECT_TIMEOUT", "1s")
+    assert cli.main(["prove", str(specs["h74"]), "--scheduler", "tcp://127.0.0.1:1"]) == 2
+    assert "no scheduler at tcp://127.0.0.1:1" in capsys.readouterr().err
