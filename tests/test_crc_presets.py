@@ -82,11 +82,11 @@ def test_preset_fills_the_parameters_and_the_header_states_the_check():
 
 @pytest.mark.parametrize("crc,lines", [
     ('preset = "CRC-16/KERMIT"\npoly = 0x8005\nreflect_in = false',
-     ["test.toml: [crc] poly: contradicts preset CRC-16/KERMIT, which has poly = 0x1021 (got '0x8005')",
+     ["test.toml: [crc] poly: contradicts preset CRC-16/KERMIT, which has poly = 0x1021 (got \"0x8005\")",
       "test.toml: [crc] reflect_in: contradicts preset CRC-16/KERMIT, which has reflect_in = true (got false)"]),
     ('preset = "CRC-16/KERMITT"',
      ["test.toml: [crc] preset: not a catalogue name ('bitmend list' shows them); close: CRC-16/KERMIT, "
-      "CRC-16/CCITT, CRC-16/UMTS (got 'CRC-16/KERMITT')"]),
+      "CRC-16/CCITT, CRC-16/UMTS (got \"CRC-16/KERMITT\")"]),
     ("preset = 16", ["test.toml: [crc] preset: must be a string (got 16)"]),
 ])
 def test_preset_problems_name_the_key(crc, lines):
