@@ -286,6 +286,10 @@ def main(argv: list[str] | None = None) -> int:
     except harness.BuildError as err:
         print(f"bitmend: {specmod.escape(err.summary, 400)}", file=sys.stderr)
         return EXIT_FAILED
+    except ModuleNotFoundError as err:         # an optional piece (matplotlib, distributed) is not installed
+        print(f"bitmend: this command needs the Python package {err.name!r}, which is not installed "
+              f"(pip install {err.name})", file=sys.stderr)
+        return EXIT_BAD_INPUT
     except BrokenPipeError:                    # `bitmend ... | head`: the reader left; say nothing
         os.dup2(os.open(os.devnull, os.O_WRONLY), sys.stdout.fileno())
         return EXIT_PIPE
