@@ -97,13 +97,26 @@ def cmd_verify(args) -> int:
     return EXIT_OK if all(r.ok for r in reports) else EXIT_FAILED
 
 
+def _channel(args):
+    from .channels import make
+    return make(args.channel, args.flip_prob, args.burst_len, args.bad_flip, args.good_flip)
+
+
 def cmd_analyze(args) -> int:
-    from .channels import analysis, make, study
+    from .channels import analysis, study
     specs = _load_specs(args.specs)
-    results = study.run(specs, make("bsc", args.flip_prob), trials=args.simulate, seed=args.seed,
-                        plot_file=args.plot)
-    _say(args, "\n\n".join(analysis.table(r) for r in results))
+    try:
+        results = study.run(specs, _channel(args), trials=args.simulate, seed=args.seed, plot_file=args.plot)
+    except ValueError as err:                  # a family the channel does not model
+        print(f"bitmend: {err}", file=sys.stderr)
+        return EXIT_BAD_INPUT
+    _say(args, analysis.table(results[0]) if len(results) == 1 else analysis.summary(results))
     if args.plot:
+        extra = [(r["name"], p) for r in results for p in r.get("simulated_points", [])]
+        if extra:
+            _say(args, f"the plot adds {len(extra)} smaller simulation(s) where failures are common: "
+                 + ", ".join(f"{name} f={p['flip_prob']:.3g} ({p['simulated_trials']} trials)"
+                             for name, p in extra))
         _say(args, f"wrote {show_path(args.plot)}")
     if args.json:
         data = results[0] if len(results) == 1 else results
@@ -112,9 +125,8 @@ def cmd_analyze(args) -> int:
 
 
 def cmd_recommend(args) -> int:
-    from .channels import make, recommend
-    outcome = recommend.search(args.data_bytes, make("bsc", args.flip_prob), args.target, args.families,
-                               args.profile)
+    from .channels import recommend
+    outcome = recommend.search(args.data_bytes, _channel(args), args.target, args.families, args.profile)
     _say(args, recommend.table(outcome))
     outputs = [_json_output(args.json, outcome.as_dict())] if args.json else []
     if args.write and outcome.best is not None:
@@ -168,8 +180,24 @@ def _check_args(args) -> str | None:
     if f is not None and not 0.0 < f < 0.5:
         return f"--flip-prob must be in (0, 0.5) (got {f:g})"
     target = getattr(args, "target", None)
-    if target is not None and not 0.0 < target < 1.0:
-        return f"--target must be in (0, 1) (got {target:g})"
+    if target is not None and not 1e-300 <= target < 1.0:
+        return f"--target must be in [1e-300, 1): smaller failures are not computed (got {target:g})"
+    if getattr(args, "channel", None) == "burst":
+        if args.burst_len is None:
+            return "--channel burst needs --burst-len (mean burst length in bits)"
+        if not 1.0 <= args.burst_len <= 1e9:
+            return f"--burst-len must be in [1, 1e9] bits (got {args.burst_len:g})"
+        if not 0.0 < args.bad_flip <= 1.0:
+            return f"--bad-flip must be in (0, 1] (got {args.bad_flip:g})"
+        if not 0.0 <= args.good_flip < args.bad_flip:
+            return f"--good-flip must be in [0, --bad-flip) (got {args.good_flip:g})"
+        if f is not None and not args.good_flip < f < args.bad_flip:
+            return f"--flip-prob must lie between --good-flip and --bad-flip (got {f:g})"
+        from .channels import GilbertElliott
+        most = GilbertElliott.flip_limit(args.burst_len, args.bad_flip, args.good_flip)
+        if f is not None and f > most:
+            return (f"--flip-prob {f:g} needs bursts longer than --burst-len {args.burst_len:g} "
+                    f"(at most {most:.3g} at that length)")
     data_bytes = getattr(args, "data_bytes", None)
     if data_bytes is not None and data_bytes <= 0:
         return f"--data-bytes must be at least 1 (got {data_bytes})"
@@ -184,6 +212,16 @@ def _check_args(args) -> str | None:
         if value is not None and value != STDOUT and os.path.isdir(value):
             return f"--{option} {show_path(value)} is a folder; name a file (or - for stdout)"
     return None
+
+
+def _channel_options(p) -> None:
+    p.add_argument("--channel", choices=("bsc", "burst"), default="bsc",
+                   help="bsc: independent flips (default); burst: Gilbert-Elliott bursts, --flip-prob their average")
+    p.add_argument("--burst-len", type=float, metavar="L", help="burst channel: mean burst length in bits")
+    p.add_argument("--bad-flip", type=float, default=0.5, metavar="P",
+                   help="burst channel: flip probability inside a burst (default 0.5)")
+    p.add_argument("--good-flip", type=float, default=0.0, metavar="P",
+                   help="burst channel: flip probability outside bursts (default 0)")
 
 
 def parser() -> argparse.ArgumentParser:
@@ -212,10 +250,11 @@ def parser() -> argparse.ArgumentParser:
     v.add_argument("--json", metavar="FILE", help="also write the results as JSON (- for stdout)")
     v.set_defaults(func=cmd_verify)
 
-    a = sub.add_parser("analyze", help="what the code buys on a binary symmetric channel")
+    a = sub.add_parser("analyze", help="what the code buys on a channel (binary symmetric or bursty)")
     a.add_argument("specs", nargs="+", metavar="SPEC")
     a.add_argument("--flip-prob", type=float, required=True, metavar="F",
                    help="probability that the channel flips a bit, in (0, 0.5)")
+    _channel_options(a)
     a.add_argument("--simulate", type=int, metavar="N",
                    help="also run N random channel trials through the compiled C")
     a.add_argument("--seed", type=int, default=1, help="random seed of the simulation (default 1)")
@@ -227,6 +266,7 @@ def parser() -> argparse.ArgumentParser:
     r.add_argument("--data-bytes", type=int, required=True, metavar="N", help="bytes of data to protect")
     r.add_argument("--flip-prob", type=float, required=True, metavar="F",
                    help="probability that the channel flips a bit, in (0, 0.5)")
+    _channel_options(r)
     r.add_argument("--target", type=float, required=True, metavar="P",
                    help="largest acceptable failure for the whole data, in (0, 1)")
     r.add_argument("--families", nargs="+", choices=list(specmod.FAMILIES), metavar="FAMILY",

@@ -248,3 +248,80 @@ def test_every_example_analyzes(spec):
     assert r["capacity"] == pytest.approx(_capacity(1e-3), rel=1e-13)
     table = analysis.table(r)
     assert Path(spec).stem in table or r["name"] in table
+
+
+# -- figures within their ranges, strict JSON (issue 13 cases 10, 11; issue 12 item 9) ------------------------
+
+def _strict_json(path: Path):
+    """Parse as strict JSON (RFC 8259 has no NaN or Infinity): the constants raise."""
+    def bad(name):
+        raise ValueError(f"not strict JSON: {name}")
+    return json.loads(path.read_text(), parse_constant=bad)
+
+
+def test_block_failure_never_above_one(tmp_path):
+    # was 1.0000000000000968 for archive_block at f = 0.1
+    js = tmp_path / "a.json"
+    assert cli.main(["analyze", str(ROOT / "examples" / "archive_block.toml"), "--flip-prob", "0.1",
+                     "--json", str(js)]) == 0
+    data = _strict_json(js)
+    assert data["block_failure"] == 1.0
+    # scipy.stats.binom.sf(16, 255, 1 - 0.9^8) rounds to 1 as well
+    assert stats.binom.sf(16, 255, stats.binom.sf(0, 8, 0.1)) == pytest.approx(1.0, abs=1e-12)
+
+
+def test_finite_length_limit_clamped_and_flagged(tmp_path):
+    # was 1.068 for cal_word at f = 1e-17: the raw normal approximation (PPV 2010) is above 1 there
+    js = tmp_path / "a.json"
+    assert cli.main(["analyze", str(ROOT / "examples" / "cal_word.toml"), "--flip-prob", "1e-17",
+                     "--json", str(js)]) == 0
+    data = _strict_json(js)
+    raw = _ppv(data["channel_bits"], 1e-17, data["block_failure"])
+    assert raw > 1.0                                       # the case is real: scipy's figure exceeds 1
+    assert data["finite_length_rate"] == 1.0
+    assert "not meaningful" in data["finite_length_note"] and "clamped" in data["finite_length_note"]
+
+
+def test_detection_only_code_has_no_finite_length_limit():
+    model = make_model((ROOT / "examples" / "boot_header.toml").read_text())
+    assert model.properties.t == 0
+    r = analysis.analyze(model, BSC(1e-3))
+    assert r["finite_length_rate"] is None and "detection-only" in r["finite_length_note"]
+    assert "detection-only" in analysis.table(r)
+
+
+@pytest.mark.parametrize("spec", EXAMPLES, ids=[p.stem for p in EXAMPLES])
+def test_underflow_is_stated_and_json_strict(spec, tmp_path, capsys):
+    # was -Infinity in the JSON at f = 1e-309 (boot_header)
+    js = tmp_path / "a.json"
+    assert cli.main(["analyze", str(spec), "--flip-prob", "1e-309", "--json", str(js)]) == 0
+    data = _strict_json(js)
+    assert "block_failure" in data["underflow"]
+    assert 0.0 <= data["block_failure"] < 1e-300
+    for key, value in data.items():
+        if isinstance(value, float) and key in analysis.PROBABILITIES:
+            assert 0.0 <= value <= 1.0
+    out = capsys.readouterr().out
+    assert "block failure" in out and "< 1e-300" in out
+
+
+def test_several_specs_one_row_each(capsys):
+    specs = [ROOT / "examples" / n for n in ("archive_block.toml", "cal_word.toml", "flash_page.toml")]
+    assert cli.main(["analyze", *map(str, specs), "--flip-prob", "1e-3"]) == 0
+    lines = capsys.readouterr().out.splitlines()
+    header = lines[1].split()
+    for name in ("archive_block", "cal_word", "flash_page"):
+        row = next(line for line in lines if line.split()[:1] == [name])
+        assert len(row.split()) >= len(header) - 2        # "block failure" and "finite-length limit" are two words each
+
+
+def test_zero_failure_simulation_is_an_upper_bound_marker():
+    from codegen.channels import figures
+    model = make_model(SOIL)
+    ch = BSC(1e-3)
+    r = analysis.analyze(model, ch)
+    sim = {"flip_prob": 1e-3, "simulated_failure": 0.0, "ci95": [0.0, 0.0018], "simulated_trials": 2000}
+    data = figures.compute([(model, r, [sim])], ch)
+    sim_seen = dict(sim, simulated_failure=0.001, ci95=[0.0003, 0.003])
+    zero, seen = figures.compute([(model, r, [sim, sim_seen])], ch)["failure"]["simulated"]
+    assert zero["kind"] == "upper_bound" and seen["kind"] == "interval"

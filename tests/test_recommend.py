@@ -175,3 +175,30 @@ def test_bad_arguments_exit_2(args, option, capsys):
     assert rc == 2
     err = capsys.readouterr().err
     assert err.startswith("bitmend: ") and option in err
+
+
+def test_columns_never_merge_at_huge_sizes(capsys):
+    # 10^18 data bytes: codeword counts and parity bytes of 16-17 digits stay apart from their neighbours
+    assert cli.main(["recommend", "--data-bytes", str(10 ** 18), "--flip-prob", "1e-4", "--target", "1e-6",
+                     "--families", "bch"]) == 0
+    lines = capsys.readouterr().out.splitlines()
+    header = lines[1].split()
+    assert header == ["#", "family", "parameters", "words", "parity", "B", "tables", "B", "failure", "rate"]
+    for line in lines[2:]:
+        if line.strip()[:1].isdigit():
+            cells = line.split()
+            # "#", family, three parameters, words, parity, tables, failure, rate
+            assert len(cells) == 10, line
+
+
+def test_underflowed_failures_are_stated(capsys):
+    # a target of 1e-300 is the smallest accepted; failures below it print as "< 1e-300", never 0.00e+00
+    assert cli.main(["recommend", "--data-bytes", "512", "--flip-prob", "1e-3", "--target", "1e-300",
+                     "--families", "bch"]) == 0
+    out = capsys.readouterr().out
+    assert "< 1e-300" in out and "0.00e+00" not in out
+
+
+def test_target_below_what_is_computed_exit_2(capsys):
+    assert cli.main(["recommend", "--data-bytes", "512", "--flip-prob", "1e-3", "--target", "5e-324"]) == 2
+    assert "--target" in capsys.readouterr().err

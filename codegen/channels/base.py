@@ -25,6 +25,10 @@ class Channel(ABC):
     def at(self, flip_prob: float) -> "Channel":
         """The same kind of channel, every other parameter kept, at another average flip probability."""
 
+    def flip_bounds(self) -> tuple[float, float]:
+        """The open interval of average flip probabilities this channel's other parameters allow."""
+        return 0.0, 0.5
+
     @abstractmethod
     def unit_error(self, unit_bits: int) -> float:
         """Chance that one unit of `unit_bits` consecutive bits holds at least one flip."""
@@ -54,4 +58,6 @@ def wilson_interval(failures: int, trials: int, z: float = Z95) -> tuple[float, 
     denom = 1.0 + z * z / trials
     centre = (phat + z * z / (2 * trials)) / denom
     half = z * math.sqrt(phat * (1 - phat) / trials + z * z / (4 * trials * trials)) / denom
-    return (max(0.0, centre - half), min(1.0, centre + half))
+    lo = 0.0 if failures == 0 else max(0.0, centre - half)
+    hi = 1.0 if failures == trials else min(1.0, centre + half)
+    return (lo, hi)

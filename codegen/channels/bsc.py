@@ -112,12 +112,12 @@ def log_cdf(n: int, t: int, p: float) -> float:
 
 def tail(n: int, t: int, p: float) -> float:
     """P(X > t), X ~ Binomial(n, p)."""
-    return math.exp(log_tail(n, t, p))
+    return min(1.0, math.exp(log_tail(n, t, p)))
 
 
 def cdf(n: int, t: int, p: float) -> float:
     """P(X <= t), X ~ Binomial(n, p)."""
-    return math.exp(log_cdf(n, t, p))
+    return min(1.0, math.exp(log_cdf(n, t, p)))
 
 
 def _check_p(p: float) -> None:

@@ -13,6 +13,11 @@ def format_for(path: str | Path) -> str | None:
     return FORMATS.get(Path(path).suffix.lower())
 
 
+def _color(item: dict) -> str:
+    """One colour per code, in matplotlib's default cycle."""
+    return f"C{item['code'] % 10}"
+
+
 def render(data: dict, fmt: str = "png") -> bytes:
     """The figure as PNG or SVG bytes from codegen.channels.figures.compute's output."""
     import matplotlib
@@ -25,13 +30,15 @@ def render(data: dict, fmt: str = "png") -> bytes:
 
     # rate-error plane
     fs = plane["flip_probs"]
-    left.plot(fs, plane["capacity"], color="black", label="capacity 1 - H2(f)")
+    left.plot(fs, plane["capacity"], color="black", label=plane["capacity_label"])
     shown_rates = list(plane["capacity"])
     for limit in plane["limits"]:
-        left.plot(fs, limit["rates"], linestyle="--", label=limit["label"])
+        left.plot(fs, limit["rates"], linestyle="--" if limit["meaningful"] else ":", color=_color(limit),
+                  label=limit["label"])
         shown_rates += limit["rates"]
     for code in plane["codes"]:
-        left.plot([code["flip_prob"]], [code["rate"]], marker="o", linestyle="none", label=code["label"])
+        left.plot([code["flip_prob"]], [code["rate"]], marker="o", linestyle="none", color=_color(code),
+                  label=code["label"])
         left.axvline(code["flip_prob"], color="grey", linewidth=0.6, linestyle=":")
         shown_rates.append(code["rate"])
     left.set_xscale("log")
@@ -46,23 +53,27 @@ def render(data: dict, fmt: str = "png") -> bytes:
     # failure vs flip probability
     lows = []
     for curve in failure["curves"]:
-        right.plot(curve["flip_probs"], curve["failures"], label=curve["label"])
+        right.plot(curve["flip_probs"], curve["failures"], linestyle="--" if curve["dashed"] else "-",
+                   color=_color(curve), label=curve["label"])
         lows += curve["failures"]
     for point in failure["points"]:
-        right.plot([point["flip_prob"]], [point["failure"]], marker="o", color="tab:red", linestyle="none",
+        right.plot([point["flip_prob"]], [point["failure"]], marker="o", color=_color(point), linestyle="none",
                    label=point["label"])
         if point["failure"] > 0:
             lows.append(point["failure"])
-    for i, s in enumerate(failure["simulated"]):
+    labelled = set()
+    for s in failure["simulated"]:
         lo, hi = s["ci95"]
         y = s["failure"]
-        label = "simulated (C), 95% interval" if i == 0 else None
-        if y > 0:
-            right.errorbar([s["flip_prob"]], [y], yerr=[[y - lo], [hi - y]], fmt="s", color="tab:green",
-                           capsize=3, markersize=4, label=label)
-        else:      # no failure seen: only the upper end is informative
-            right.errorbar([s["flip_prob"]], [hi], yerr=[[hi * 0.5], [0]], fmt="v", color="tab:green",
-                           capsize=3, markersize=4, uplims=False, label=label)
+        if s["kind"] == "interval":
+            label = "simulated (C), 95% interval"
+            right.errorbar([s["flip_prob"]], [y], yerr=[[y - lo], [hi - y]], fmt="s", color=_color(s),
+                           capsize=3, markersize=4, label=None if label in labelled else label)
+        else:
+            label = "simulated (C), no failure: 95% upper bound"
+            right.plot([s["flip_prob"]], [hi], marker="v", color=_color(s), linestyle="none",
+                       markersize=7, markerfacecolor="none", label=None if label in labelled else label)
+        labelled.add(label)
     right.set_xscale("log")
     right.set_yscale("log")
     right.set_ylim(max(1e-30, min(lows + [1e-30])) if lows else 1e-30, 2.0)

@@ -249,6 +249,9 @@ def search(data_bytes: int, ch: Channel, target: float, families: list[str] | No
     for family in families or list(SEARCHES):
         if family not in FAMILIES:
             raise ValueError(f"unknown family {family!r}")
+        if family == "crc-repetition" and ch.kind != "bsc":
+            skipped[family] = "analysed on the binary symmetric channel only"
+            continue
         seen = set()
         for cand in SEARCHES[family](data_bytes, ch, target):
             key = (cand.name, cand.codewords)
@@ -268,23 +271,21 @@ def search(data_bytes: int, ch: Channel, target: float, families: list[str] | No
     return Outcome(data_bytes, ch, target, meeting, near, skipped)
 
 
-def _fmt(x: float) -> str:
-    return f"{x:.2e}"
+def _failure(x: float) -> str:
+    return "< 1e-300" if x < analysis.UNDERFLOW else f"{x:.2e}"
 
 
 def table(outcome: Outcome, rows_shown: int = 12) -> str:
-    head = (f"{outcome.data_bytes} data bytes, flip probability {outcome.flip_prob:g}, "
+    head = (f"{outcome.data_bytes} data bytes on {analysis.channel_words(outcome.as_dict())}, "
             f"target block failure {outcome.target:g}")
     rows = outcome.candidates or outcome.closest
     lines = [head]
     if not outcome.candidates:
         lines.append("nothing meets the target; the closest candidates:")
-    cols = f"  {'#':>2}  {'family':<15}{'parameters':<34}{'words':>6}{'parity B':>10}{'tables B':>10}" \
-           f"{'failure':>11}{'rate':>8}"
-    lines.append(cols)
-    for i, c in enumerate(rows[:rows_shown], 1):
-        lines.append(f"  {i:>2}  {c.family:<15}{c.describe():<34}{c.codewords:>6}{c.parity_bytes:>10}"
-                     f"{c.table_bytes:>10}{_fmt(c.block_failure):>11}{c.rate:>8.3f}")
+    header = ["#", "family", "parameters", "words", "parity B", "tables B", "failure", "rate"]
+    cells = [[i, c.family, c.describe(), c.codewords, c.parity_bytes, c.table_bytes, _failure(c.block_failure),
+              f"{c.rate:.3f}"] for i, c in enumerate(rows[:rows_shown], 1)]
+    lines += ["  " + line for line in analysis.columns(header, cells, left=3)]
     if len(rows) > rows_shown:
         lines.append(f"  ... and {len(rows) - rows_shown} more (all of them in --json)")
     for family, why in outcome.skipped.items():
@@ -306,11 +307,11 @@ def _toml_value(v, key: str = "") -> str:
 def spec_text(c: Candidate, outcome: Outcome, profile: str = "fast") -> str:
     """The candidate as a spec file for `bitmend generate`."""
     lines = [
-        f"# Chosen by bitmend recommend for {outcome.data_bytes} data bytes on a channel flipping each bit",
-        f"# with probability {outcome.flip_prob:g}, target block failure {outcome.target:g}.",
+        f"# Chosen by bitmend recommend for {outcome.data_bytes} data bytes on",
+        f"# {analysis.channel_words(outcome.as_dict())}, target block failure {outcome.target:g}.",
         f"# {c.codewords} codeword(s) of {c.chunk_bytes} data bytes; parity {c.parity_bytes} bytes in all; "
         f"block failure {c.block_failure:.3e} for the whole data",
-        "# (independent bit flips only: bursts and retention effects are not modelled).",
+        "# (retention effects and stuck bits are not modelled).",
     ]
     for table, values in c.doc(profile).items():
         lines.append("")
