@@ -152,3 +152,64 @@ class Field:
         if any(c not in (0, 1) for c in poly):     # cannot happen for a true conjugacy class
             raise ArithmeticError("minimal polynomial has non-binary coefficients")
         return int("".join(str(c) for c in poly), 2)
+
+
+STEP_BITS = 32             # data bits per step of the word-wide remainder (one 32-bit word of data)
+
+
+def sliced_remainder_tables(block_remainder, chunk_bits: int, words: int) -> list[int]:
+    """Tables of a remainder register that takes STEP_BITS data bits per step, for any division that is
+    linear over GF(2) (binary BCH, and Reed-Solomon over GF(2^m), alike).
+
+    The register holds the remainder left-aligned in `words` 32-bit words.  One step with data word D:
+    register' = (register shifted up by STEP_BITS) xor F(top word of register xor D), where
+    F(u) = block_remainder(u) is the register after the block u enters a zero register.  F is linear, so
+    it is the XOR of one table row per chunk of `chunk_bits` bits of u: table c (c = 0 for the most
+    significant chunk), row v = F(v << (STEP_BITS - chunk_bits * (c + 1))).  The rows are stored word by
+    word: plane w holds word w (most significant first) of every row, so word w of row v of table c is at
+    (w * chunks + c) * 2^chunk_bits + v, chunks = STEP_BITS // chunk_bits; one index then serves every
+    word of a row.  Only the STEP_BITS single-bit images are computed by division; every other row is an
+    XOR of them.
+    """
+    unit = [block_remainder(1 << b) for b in range(STEP_BITS)]
+    rows = []
+    chunks = STEP_BITS // chunk_bits
+    for c in range(chunks):
+        low = STEP_BITS - chunk_bits * (c + 1)
+        for v in range(1 << chunk_bits):
+            value = 0
+            for b in range(chunk_bits):
+                if v >> b & 1:
+                    value ^= unit[low + b]
+            rows.append(value)
+    return [(value >> (32 * (words - 1 - w))) & 0xFFFFFFFF for w in range(words) for value in rows]
+
+
+def step_chunk_bits(words: int, budget: int = 16384) -> int:
+    """Index width of the step tables: bytes while their STEP_BITS // 8 tables of 256 rows fit `budget`
+    bytes, else nibbles (twice the lookups, a sixteenth of the rows)."""
+    return 8 if (STEP_BITS // 8) * 256 * 4 * words <= budget else 4
+
+
+def step_context(block_remainder, words: int, unrolled: bool) -> dict:
+    """What templates/_gf.j2 prints for a word-wide remainder of `words` 32-bit words: the tables
+    (sliced_remainder_tables), each chunk's shift, mask and first row, and each word's plane."""
+    chunk = step_chunk_bits(words)
+    chunks = STEP_BITS // chunk
+    rows = chunks << chunk                      # rows per plane
+    mask = (1 << chunk) - 1
+    return {
+        "table": sliced_remainder_tables(block_remainder, chunk, words),
+        "chunk_bits": chunk,
+        "words": words,
+        "last": words - 1,
+        "unrolled": unrolled,
+        "plane": rows,
+        "planes": [{"i": w, "next": w + 1, "last": w == words - 1, "offset": w * rows} for w in range(words)],
+        # a 32-bit step: every chunk of the word, most significant first
+        "chunks": [{"shift": STEP_BITS - chunk * (c + 1), "mask": mask, "base": c << chunk} for c in range(chunks)],
+        # a step of up to 8 bits: the rows of the last byte's chunk(s), whose images are v(x) * x^r itself
+        "tail": [{"shift": 8 - chunk * (c + 1), "mask": mask, "base": (chunks - 8 // chunk + c) << chunk}
+                 for c in range(8 // chunk)],
+        "rest": {b: STEP_BITS - b for b in range(1, 9)},
+    }

@@ -132,3 +132,30 @@ def test_streaming_any_split_through_cffi():
         pieces = np.diff([0, *cuts, 100]).tolist()
         assert mod.crc(data, pieces) == whole
     assert mod.crc(b"", [0]) == model.crc.compute(b"")
+
+
+def _register_after(crc: Crc, data: bytes) -> int:
+    """The C register after `data` enters a zero register, by the bit-serial definition (Crc.compute with
+    init 0 and no output transform; the reflected register holds the CRC bit-reversed)."""
+    plain = Crc(crc.width, crc.poly, 0, crc.reflect_in, crc.reflect_in, 0)
+    return plain.compute(data) << crc.shift
+
+
+@pytest.mark.parametrize("entry", CATALOGUE, ids=[e[0] for e in CATALOGUE])
+def test_sliced_tables_by_definition(entry):
+    # Table j, entry v: a chunk v then j zero chunks into a zero register, checked against the bit-serial
+    # definition (whose check values are the catalogue's, above).  Byte chunks: data v, 0 * j.  Nibble
+    # chunks: a byte v << 4 (reflected: the low nibble 0 enters first) or v holds nibble v then zero nibble
+    # (table 1), or zero nibble then nibble v (table 0).
+    crc = crc_of(entry)
+    byte_tables = crc.tables(8, crc.slices)
+    assert len(byte_tables) == crc.slices and 256 * crc.slices * crc.reg_bits // 8 <= 4096
+    for j, tab in enumerate(byte_tables):
+        for v in (0, 1, 2, 0x80, 0xA5, 0xFF):
+            assert tab[v] == _register_after(crc, bytes([v]) + bytes(j)), (j, v)
+    first, second = crc.tables(4, 2)
+    for v in range(16):
+        one_nibble_last = bytes([v << 4]) if crc.reflect_in else bytes([v])
+        one_nibble_first = bytes([v]) if crc.reflect_in else bytes([v << 4])
+        assert first[v] == _register_after(crc, one_nibble_last), v
+        assert second[v] == _register_after(crc, one_nibble_first), v

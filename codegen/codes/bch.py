@@ -24,7 +24,8 @@ from __future__ import annotations
 
 import numpy as np
 
-from ..gf import DEFAULT_PRIMITIVE, Field, bin_mod, bin_mul, cyclotomic_coset, degree, is_primitive
+from ..gf import (DEFAULT_PRIMITIVE, Field, bin_mod, bin_mul, cyclotomic_coset, degree, is_primitive,
+                  step_context)
 from ..spec import Spec, SpecError
 from .base import ERR_LENGTH, ERR_UNCORRECTABLE, CodeModel, Properties, ctype_bytes
 
@@ -291,6 +292,11 @@ class Bch(CodeModel):
         total = WORD_BITS * self.reg_words
         v = value << (total - self.r)
         return [(v >> (total - WORD_BITS * (w + 1))) & 0xFFFFFFFF for w in range(self.reg_words)]
+
+    def block_remainder(self, u: int) -> int:
+        """(u(x) * x^r) mod g(x) for a 32-bit block u of message bits, left-aligned in reg_words words: the
+        image the fast profile's word-wide step tables are built from (gf.step_context)."""
+        return bin_mod(u << self.r, self.generator) << (WORD_BITS * self.reg_words - self.r)
 
     def rem_table(self, index_bits: int) -> list[int]:
         """Row v (v < 2^index_bits) = (v(x) * x^r) mod g(x), left-aligned; rows flattened."""

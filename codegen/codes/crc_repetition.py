@@ -77,20 +77,40 @@ class Crc:
 
     def table(self, index_bits: int) -> list[int]:
         """Register update for each index of `index_bits` bits (8: byte table, 4: nibble table)."""
-        out = []
+        return self.tables(index_bits, 1)[0]
+
+    def tables(self, index_bits: int, count: int) -> list[list[int]]:
+        """`count` sliced tables: tables[j][v] is the register after a chunk v of `index_bits` bits enters
+        a zero register and j further zero chunks follow.  A block of `count` chunks then updates the
+        register as one XOR of a lookup per chunk (the division is linear in the register and the data).
+        tables[0] is the one-chunk table; each next one is the previous one pushed through a zero chunk."""
         reg_mask = (1 << self.reg_bits) - 1
         top = 1 << (self.reg_bits - 1)
+        rows = []
         for i in range(1 << index_bits):
-            if self.reflect_in:
-                reg = i
-                for _ in range(index_bits):
+            reg = i if self.reflect_in else i << (self.reg_bits - index_bits)
+            for _ in range(index_bits):
+                if self.reflect_in:
                     reg = (reg >> 1) ^ self.reg_poly if reg & 1 else reg >> 1
-            else:
-                reg = i << (self.reg_bits - index_bits)
-                for _ in range(index_bits):
+                else:
                     reg = ((reg << 1) ^ self.reg_poly if reg & top else reg << 1) & reg_mask
-            out.append(reg)
+            rows.append(reg)
+        out = [rows]
+        low = (1 << index_bits) - 1
+        for _ in range(1, count):
+            prev = out[-1]
+            if self.reflect_in:
+                out.append([(x >> index_bits) ^ rows[x & low] for x in prev])
+            else:
+                out.append([((x << index_bits) & reg_mask) ^ rows[x >> (self.reg_bits - index_bits)]
+                            for x in prev])
         return out
+
+    @property
+    def slices(self) -> int:
+        """Bytes per step of the fast profile: as many as the register holds, within 4 KiB of tables."""
+        reg_bytes = self.reg_bits // 8
+        return max(1, min(reg_bytes, 4096 // (256 * reg_bytes)))
 
 
 class CrcRepetition(CodeModel):

@@ -27,7 +27,7 @@ import math
 
 import numpy as np
 
-from ..gf import Field, degree, is_primitive
+from ..gf import Field, degree, is_primitive, step_context
 from ..spec import Spec, SpecError
 from .base import ERR_ARG, ERR_LENGTH, ERR_UNCORRECTABLE, FRAME_BYTES, CodeModel, Properties
 
@@ -292,6 +292,18 @@ class ReedSolomon(CodeModel):
         tables["log"] = [0] + self._log[1:]
         tables["root_log"] = list(self.root_logs)
         return tables
+
+    def block_remainder(self, u: int) -> int:
+        """(u(x) * x^(n-k)) mod g(x) for a block u of four symbols (the first in the top byte), left-aligned
+        in words32 32-bit words: the image the fast profile's word-wide step tables are built from
+        (gf.step_context)."""
+        rem = self.long_division_parity(u.to_bytes(4, "big"))
+        return int.from_bytes(rem + bytes(4 * self.words32 - self.nroots), "big")
+
+    @property
+    def words32(self) -> int:
+        """32-bit words of the fast encoder's register."""
+        return (self.nroots + 3) // 4
 
     def stack_array_bytes(self) -> int:
         """Local arrays on the deepest chain: correct() holds remainder, syndromes, Lambda and the
