@@ -248,8 +248,15 @@ def test_scheduler_and_worker_started_by_hand(specs, tmp_path):
                     proc.wait()
 
 
-def test_a_wrong_decoder_is_caught(specs, address, monkeypatch, capsys):
-    # h74_decode made to return 2 after correcting one error: a return that breaks the contract
+@pytest.mark.parametrize("after, wrong, first_lines", [
+    # a return that breaks the contract: 2 after correcting one error; every single error (7) and every
+    # double one (21, miscorrected by one flip) now returns 2
+    ("return rc == 1 ? 2 : rc;", 28, ["weight 1 rank 0: data bit 0", "weight 1 rank 6: parity bit 2",
+                                      "weight 2 rank 0: data bit 0, data bit 1"]),
+    # a write one byte past the parity buffer (into the driver's guard bytes) on every call
+    ("parity[1] = 0;\n    return rc;", 28, ["weight 1 rank 0: data bit 0"]),
+])
+def test_a_wrong_decoder_is_caught(specs, address, monkeypatch, capsys, after, wrong, first_lines):
     render = emit.render
 
     def broken(model, env=None):
@@ -257,17 +264,15 @@ def test_a_wrong_decoder_is_caught(specs, address, monkeypatch, capsys):
         c = files["h74.c"].replace("int h74_decode(", "static int h74_decode_real(", 1)
         files["h74.c"] = c + ("int h74_decode(uint8_t *data, size_t data_len, uint8_t *parity)\n"
                               "{\n    int rc = h74_decode_real(data, data_len, parity);\n"
-                              "    return rc == 1 ? 2 : rc;\n}\n")
+                              f"    {after}\n}}\n")
         return files
 
     monkeypatch.setattr(emit, "render", broken)
     assert cli.main(["prove", str(specs["h74"]), "--max-weight", "2", "--scheduler", address]) == 1
     out = capsys.readouterr().out
-    # every single error (7) and every double one (21, miscorrected by one flip) now returns 2
-    assert "28 patterns decoded wrongly" in out
-    assert "! wrong: weight 1 rank 0: data bit 0\n" in out
-    assert "! wrong: weight 1 rank 6: parity bit 2\n" in out       # units: 4 data bits, then 3 parity
-    assert "! wrong: weight 2 rank 0: data bit 0, data bit 1\n" in out
+    assert f"{wrong} patterns decoded wrongly" in out
+    for line in first_lines:                   # units: 4 data bits, then 3 parity bits
+        assert f"! wrong: {line}\n" in out
 
 
 # -- the CLI's errors: one line, exit 2, nothing written ----------------------------------------------------

@@ -1,0 +1,122 @@
+"""`bitmend prove`'s driver against the bare decoder, on one core, in the same run.
+
+For each example: the driver's patterns per second on one core over a shard of weight-2 patterns (each
+pattern decoded on every codeword: CODEWORDS decode calls), and the bare decoder's call rate on exactly the
+same received words (a C loop: copy a received word into place, decode it; nothing else).  The ratio is
+driver decode calls per second over bare decode calls per second; issue 11 asks for at least 80 %.
+Best of ROUNDS alternating rounds, so both figures see the same machine load.
+"""
+from __future__ import annotations
+
+import sys
+import time
+from pathlib import Path
+
+sys.path.insert(0, str(Path(__file__).resolve().parent))
+from common import ROOT, table  # noqa: E402
+
+from codegen import harness, spec as specmod  # noqa: E402
+from codegen.codes import build  # noqa: E402
+from codegen.prove_driver import CODEWORDS, make_job, runner, shard_decl  # noqa: E402
+
+EXAMPLES = ["flash_page", "meter_reading", "beacon_telemetry", "mem_word"]
+WEIGHT = 2
+SHARD = 2048                 # patterns of the driver's shard, the same ones in the bare loop
+ROUNDS = 5
+SECONDS = 0.3                # driver time per round
+
+BARE = """\
+#include <string.h>
+#include "{name}.h"
+
+{decl};
+
+/* `calls` decodes: received word i % n_words copied into `work`, then decoded in place. */
+{decl}
+{{
+    const size_t len = (size_t)data_len + parity_len;
+    uint64_t i;
+    int sink = 0;
+    for (i = 0u; i < calls; i++) {{
+        memcpy(work, words + (size_t)(i % n_words) * len, len);
+        sink += {name}_decode(work, data_len, work + data_len);
+    }}
+    return sink;
+}}
+"""
+
+
+def bare_decl(name: str) -> str:
+    return (f"int {name}_bench_bare(const uint8_t *words, uint32_t n_words, uint32_t data_len, "
+            "uint32_t parity_len, uint64_t calls, uint8_t *work)")
+
+
+def received_words(job, first: int, count: int) -> bytes:
+    """The words the driver decodes for ranks first .. first + count - 1: each pattern on each codeword."""
+    size = job.data_len + job.parity_len
+    out = bytearray()
+    for rank in range(first, first + count):
+        for w in range(CODEWORDS):
+            frame = bytearray(job.words[w * size:(w + 1) * size])
+            for unit, value in job.pattern(WEIGHT, rank):
+                off = job.units[unit]
+                if job.unit_bits == 1:
+                    frame[off // 8] ^= 0x80 >> (off % 8)
+                else:
+                    frame[off // 8] ^= value
+            out += frame
+    return bytes(out)
+
+
+def measure(name: str) -> list:
+    model = build(specmod.load(ROOT / "examples" / f"{name}.toml"))
+    job = make_job(model, model.properties.data_bytes)
+    drive = runner(job)
+    files = dict(job.files)
+    files[f"{name}_bench.c"] = BARE.format(name=name, decl=bare_decl(name))
+    module = harness.build(name, files, extra_cdef=f"{shard_decl(name)};\n{bare_decl(name)};")
+    ffi = module.ffi
+    first = job.patterns(WEIGHT) // 2
+    count = min(job.patterns(WEIGHT) - first, SHARD)
+    words = received_words(job, first, count)
+    buf = ffi.new("uint8_t[]", words)
+    work = ffi.new("uint8_t[]", job.data_len + job.parity_len)
+    bare = module.fn("bench_bare")
+
+    def driver(reps: int) -> None:
+        for _ in range(reps):
+            drive.run(WEIGHT, first, count)
+
+    reps = 1
+    while True:                                  # repetitions of the shard for about SECONDS
+        t0 = time.perf_counter()
+        driver(reps)
+        if time.perf_counter() - t0 >= SECONDS / 4:
+            break
+        reps *= 2
+    reps *= 4
+    calls = reps * count * CODEWORDS
+    best_drive = best_bare = float("inf")
+    for _ in range(ROUNDS):
+        t0 = time.perf_counter()
+        driver(reps)
+        best_drive = min(best_drive, time.perf_counter() - t0)
+        t0 = time.perf_counter()
+        bare(buf, count * CODEWORDS, job.data_len, job.parity_len, calls, work)
+        best_bare = min(best_bare, time.perf_counter() - t0)
+    per_core = reps * count / best_drive
+    drive_calls, bare_calls = calls / best_drive, calls / best_bare
+    return [name, f"{len(job.units)} x {job.unit_bits}", f"{per_core:,.0f}", f"{drive_calls:,.0f}",
+            f"{bare_calls:,.0f}", f"{100 * drive_calls / bare_calls:.0f} %"]
+
+
+def main() -> None:
+    rows = [measure(name) for name in EXAMPLES]
+    print(table(f"prove driver, weight-{WEIGHT} patterns on {CODEWORDS} codewords each, one core "
+                f"(best of {ROUNDS} alternating rounds)",
+                ["example", "units x bits", "patterns/s per core", "driver decodes/s", "bare decodes/s",
+                 "driver/bare"], rows))
+
+
+if __name__ == "__main__":
+    main()
