@@ -11,13 +11,11 @@ from __future__ import annotations
 import json
 import os
 import subprocess
-import sys
 import time
-from contextlib import contextmanager
 from dataclasses import dataclass, field
 from pathlib import Path
 
-from . import __version__, cluster, harness
+from . import __version__, cluster, harness, terminal
 from .codes import build
 from .prove_driver import CLASSES, CODEWORD_SEED, CODEWORDS, MAX_WEIGHT, Job, make_job, run_shard, runner
 from .spec import Spec
@@ -184,7 +182,7 @@ def _compiler_id() -> str:
         first = res.stdout.splitlines()[0] if res.stdout else ""
     except OSError:
         first = ""
-    return f"{cc} ({first})" if first else cc
+    return f"{cc}: {first}" if first else cc
 
 
 def _rate(job: Job, weight: int) -> float:
@@ -239,31 +237,6 @@ def _plan(spec: Spec, profile: str, max_weight: int | None, data_len: int | None
     return job, cert, shards
 
 
-@contextmanager
-def _progress(total: int, show: bool):
-    """advance(n) for a progress bar of patterns on stderr (nothing when not shown)."""
-    if not show:
-        yield lambda n: None
-        return
-    from rich.console import Console
-    from rich.progress import (BarColumn, MofNCompleteColumn, Progress, TextColumn, TimeElapsedColumn,
-                               TimeRemainingColumn)
-    columns = (TextColumn("proving"), BarColumn(), MofNCompleteColumn(), TextColumn("patterns"),
-               TextColumn("{task.fields[rate]}"), TimeElapsedColumn(), TextColumn("left"), TimeRemainingColumn())
-    with Progress(*columns, console=Console(stderr=True), transient=True) as bar:
-        task = bar.add_task("", total=total, rate="")
-
-        def advance(n: int) -> None:
-            bar.advance(task, n)
-            speed = bar.tasks[0].speed
-            bar.update(task, rate=f"{speed:,.0f}/s" if speed else "")
-        yield advance
-
-
-def interactive() -> bool:
-    return sys.stderr.isatty() and not os.environ.get("CI")
-
-
 def run(spec: Spec, profiles: list[str], max_weight: int | None = None, data_len: int | None = None,
         scheduler: str | None = None, workers: int | None = None, state_file: str | None = None,
         progress: bool | None = None, shard_seconds: float = SHARD_SECONDS) -> tuple[list[Certificate], bool]:
@@ -294,9 +267,8 @@ def run(spec: Spec, profiles: list[str], max_weight: int | None = None, data_len
         futures = {job.key: client.scatter(job, broadcast=True, hash=False) for job, _, _ in plans}
         by_future = {futures[job.key].key: cert for job, cert, _ in plans}
         calls = ((futures[job.key], w, first, count) for job, _, w, first, count in todo)
-        show = interactive() if progress is None else progress
         try:
-            with _progress(sum(c for *_, c in todo), show) as advance:
+            with terminal.progress(sum(c for *_, c in todo), "proving", progress) as advance:
                 for (fut, w, first, count), result in cluster.unordered(client, run_shard, calls,
                                                                         2 * n_workers + 2):
                     cert = by_future[fut.key]
