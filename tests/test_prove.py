@@ -227,7 +227,7 @@ def test_scheduler_and_worker_started_by_hand(specs, tmp_path):
         addr = json.loads(info.read_text())["address"]
         assert addr.startswith("tcp://127.0.0.1:")
         worker = subprocess.Popen([str(DASK), "worker", addr, "--host", "127.0.0.1", "--nthreads", "1",
-                                   "--nworkers", "1", "--no-dashboard", "--lifetime", "120s"],
+                                   "--no-nanny", "--no-dashboard", "--lifetime", "120s"],
                                   stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL)
         with Client(addr, timeout="30s") as client:
             client.wait_for_workers(1, timeout=60)
