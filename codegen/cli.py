@@ -89,7 +89,8 @@ def cmd_generate(args) -> int:
 
 def cmd_verify(args) -> int:
     specs = _load_specs(args.specs)
-    reports = verify.run_specs(specs, seed=args.seed, budget=args.budget, profiles=args.profile)
+    reports = verify.run_specs(specs, seed=args.seed, budget=args.budget, profiles=args.profile,
+                               announce=lambda text: _say(args, text))
     for report in reports:
         _say(args, report.table())
     if args.json:

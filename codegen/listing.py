@@ -3,7 +3,7 @@ from __future__ import annotations
 
 import dataclasses
 
-from rich.table import Table
+from rich.console import RenderableType
 
 from . import crc_catalogue, spec as specmod
 from .terminal import table
@@ -32,7 +32,7 @@ def _default(f: dataclasses.Field) -> str:
     return f"{f.default:#x}" if "poly" in f.name else str(f.default)
 
 
-def families() -> Table:
+def families() -> RenderableType:
     rows = []
     for family, tables in specmod.FAMILIES.items():
         for tname, cls in tables.items():
@@ -47,12 +47,12 @@ def families() -> Table:
     return table(["family", "table", "key", "type", "range", "default"], rows, title="Families")
 
 
-def profiles() -> Table:
+def profiles() -> RenderableType:
     rows = [[p, PROFILE_NOTES[p]] for p in specmod.PROFILES]
     return table(["[c] profile", "C it produces (all give identical results)"], rows, title="Profiles")
 
 
-def presets() -> Table:
+def presets() -> RenderableType:
     def hx(value: int, width: int) -> str:
         return f"0x{value:0{(width + 3) // 4}X}"
 
@@ -65,5 +65,5 @@ def presets() -> Table:
                   "aliases"], rows, title=title, right=("width",))
 
 
-def all_tables() -> list[Table]:
+def all_tables() -> list[RenderableType]:
     return [families(), profiles(), presets()]

@@ -11,7 +11,8 @@ from contextlib import contextmanager
 from typing import Callable, Iterator
 
 from rich import box
-from rich.console import Console
+from rich.console import Console, Group, RenderableType
+from rich.markup import escape
 from rich.progress import (BarColumn, MofNCompleteColumn, Progress, ProgressColumn, TextColumn,
                            TimeRemainingColumn)
 from rich.table import Table
@@ -30,25 +31,29 @@ def console() -> Console:
     return Console(width=None if sys.stdout.isatty() else PIPE_WIDTH, highlight=False)
 
 
-def table(columns: list[str], rows: list[list], title: str | None = None, right: tuple[str, ...] = ()) -> Table:
-    """A plain table: `columns` headers, `rows` of values printed with str() as they are (no markup);
-    columns named in `right` are right-aligned (numbers)."""
-    t = Table(title=Text(title) if title else None, box=box.SIMPLE_HEAD, title_justify="left",
-              pad_edge=False)
+def table(columns: list[str], rows: list[list], title: str | None = None, right: tuple[str, ...] = ()
+          ) -> RenderableType:
+    """A plain table under an optional title line: `columns` headers, `rows` of values printed with str()
+    as they are (no markup); columns named in `right` are right-aligned (numbers)."""
+    t = Table(box=box.SIMPLE_HEAD, pad_edge=False)
     for c in columns:
         t.add_column(Text(c), justify="right" if c in right else "left", overflow="fold")
     for row in rows:
         t.add_row(*(Text(str(v)) for v in row))
-    return t
+    return Group(Text(title), t) if title else t
 
 
-def show(*tables: Table) -> None:
-    """Print the tables to stdout, one blank line apart, without the padding rich adds at line ends."""
+def render(*tables: RenderableType) -> str:
+    """The tables as text for stdout, without the padding rich adds at line ends."""
     out = console()
     with out.capture() as captured:
         for t in tables:
             out.print(t)
-    sys.stdout.write("\n".join(line.rstrip() for line in captured.get().splitlines()) + "\n")
+    return "\n".join(line.rstrip() for line in captured.get().splitlines())
+
+
+def show(*tables: RenderableType) -> None:
+    print(render(*tables))
 
 
 class _Rate(ProgressColumn):
@@ -68,10 +73,10 @@ def progress(total: int, label: str, enabled: bool | None = None) -> Iterator[Ca
     bar = Progress(TextColumn("{task.description}"), BarColumn(), MofNCompleteColumn(), _Rate(),
                    TextColumn("left"), TimeRemainingColumn(), console=Console(file=sys.stderr),
                    transient=True)
-    task = bar.add_task(label, total=total)
+    task = bar.add_task(escape(label), total=total)
 
     def advance(n: int = 1, label: str | None = None) -> None:
-        bar.update(task, advance=n, **({"description": label} if label else {}))
+        bar.update(task, advance=n, **({"description": escape(label)} if label else {}))
 
     with bar:
         yield advance

@@ -8,13 +8,11 @@ from __future__ import annotations
 
 import itertools
 import math
-import os
-import sys
 from dataclasses import dataclass, field
 
 import numpy as np
 
-from . import emit, harness
+from . import emit, harness, terminal
 from .codes import build
 from .codes.base import CodeModel
 from .spec import Spec
@@ -55,14 +53,13 @@ class Report:
 
     def table(self) -> str:
         p = self.properties
-        lines = [f"{self.name} ({self.family}, profile {self.profile}): n={p['n']} k={p['k']} t={p['t']}",
-                 f"  {'kind':<22}{'cases':>8}{'mismatches':>12}"]
-        for kind, count in self.cases.items():
-            lines.append(f"  {kind:<22}{count:>8}{self.failures[kind]:>12}")
+        title = f"{self.name} ({self.family}, profile {self.profile}): n={p['n']} k={p['k']} t={p['t']}"
+        rows = [[kind, count, self.failures[kind]] for kind, count in self.cases.items()]
         total, bad = sum(self.cases.values()), sum(self.failures.values())
-        lines.append(f"  {'total':<22}{total:>8}{bad:>12}   {'OK' if self.ok else 'MISMATCH'}")
-        lines.extend(f"  ! {d}" for d in self.details)
-        return "\n".join(lines)
+        rows.append(["total", total, bad, "OK" if self.ok else "MISMATCH"])
+        text = terminal.render(terminal.table(["kind", "cases", "mismatches", ""], rows, title=title,
+                                              right=("cases", "mismatches")))
+        return "\n".join([text] + [f"  ! {d}" for d in self.details])
 
     def as_dict(self) -> dict:
         return {"name": self.name, "family": self.family, "profile": self.profile, "ok": self.ok,
@@ -245,23 +242,29 @@ class _Cases:
                 yield Case("bad erasure list", self.data(length), errors, lst)
 
 
+def case_count(model: CodeModel, seed: int = 1, budget: int = 2000) -> int:
+    """How many cases `campaign` runs with this seed and budget (the list is drawn once, without the C)."""
+    return sum(1 for _ in _Cases(model, np.random.default_rng(seed), budget).all())
+
+
 def campaign(model: CodeModel, module: harness.Module, seed: int = 1, budget: int = 2000,
-             progress: bool | None = None) -> Report:
-    """Run every case kind against one compiled module."""
+             progress: bool | None = None, announce=None) -> Report:
+    """Run every case kind against one compiled module.  `announce(text)`, when given, is told first how
+    many cases will run; a progress bar shows on a terminal (terminal.progress)."""
     report = Report(model.spec.name, model.spec.family, model.spec.profile, model.properties.as_dict())
-    show = _interactive() if progress is None else progress
+    label = f"{model.spec.name} [{model.spec.profile}]"
+    total = case_count(model, seed, budget)
+    if announce:
+        announce(f"{label}: {total} cases, the C against the model")
     cases = _Cases(model, np.random.default_rng(seed), budget)
-    for i, case in enumerate(cases.all()):
-        try:
-            problem = compare(model, module, case)
-        except harness.GuardError as err:
-            problem = f"{err} data_len={len(case.data)} errors={list(case.errors)[:8]}"
-        report.add(case.kind, problem)
-        if show and i % 200 == 0:
-            print(f"\r  {model.spec.name} [{model.spec.profile}] {case.kind:<24} {i:>8} cases",
-                  end="", file=sys.stderr, flush=True)
-    if show:
-        print("\r" + " " * 72 + "\r", end="", file=sys.stderr, flush=True)
+    with terminal.progress(total, label, progress) as advance:
+        for case in cases.all():
+            try:
+                problem = compare(model, module, case)
+            except harness.GuardError as err:
+                problem = f"{err} data_len={len(case.data)} errors={list(case.errors)[:8]}"
+            report.add(case.kind, problem)
+            advance(1, f"{label} {case.kind}")
     return report
 
 
@@ -269,14 +272,11 @@ def module_for(model: CodeModel, cc: str | None = None) -> harness.Module:
     return harness.build(model.spec.name, emit.render(model), cc)
 
 
-def run_specs(specs: list[Spec], seed: int = 1, budget: int = 2000, profiles=None) -> list[Report]:
+def run_specs(specs: list[Spec], seed: int = 1, budget: int = 2000, profiles=None, announce=None
+              ) -> list[Report]:
     reports = []
     for spec in specs:
         for profile in profiles or [spec.profile]:
             model = build(spec.with_profile(profile))
-            reports.append(campaign(model, module_for(model), seed, budget))
+            reports.append(campaign(model, module_for(model), seed, budget, announce=announce))
     return reports
-
-
-def _interactive() -> bool:
-    return sys.stderr.isatty() and not os.environ.get("CI")

@@ -15,7 +15,7 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass, field
 
-from .. import gf
+from .. import gf, terminal
 from ..codes import build
 from ..spec import FAMILIES, PROFILES, SpecError, parse
 from . import analysis, bsc
@@ -245,24 +245,26 @@ def search(data_bytes: int, ch: Channel, target: float, families: list[str] | No
         raise ValueError(f"target must be in (0, 1) (got {target})")
     if profile not in PROFILES:
         raise ValueError(f"profile must be one of {', '.join(PROFILES)} (got {profile})")
-    judged, skipped = [], {}
+    finalists = {}                          # (family, name, codewords) -> candidate, in search order
+    judged, skipped, missing = [], {}, set()
     for family in families or list(SEARCHES):
         if family not in FAMILIES:
             raise ValueError(f"unknown family {family!r}")
         if family == "crc-repetition" and ch.kind != "bsc":
             skipped[family] = "analysed on the binary symmetric channel only"
             continue
-        seen = set()
         for cand in SEARCHES[family](data_bytes, ch, target):
-            key = (cand.name, cand.codewords)
-            if key in seen:
+            finalists.setdefault((family, cand.name, cand.codewords), cand)
+    with terminal.progress(len(finalists), "building finalists") as advance:
+        for (family, _, _), cand in finalists.items():
+            advance(1, f"building finalists: {family}")
+            if family in missing:
                 continue
-            seen.add(key)
             try:
                 judged.append(_judge(cand, ch, profile))
             except ModuleNotFoundError as err:
                 skipped[family] = f"model not available ({err.name})"
-                break
+                missing.add(family)
             except SpecError as err:
                 skipped.setdefault(family, f"{cand.name}: {err}")
     order = lambda c: (c.parity_bytes, c.table_bytes, c.block_failure)  # noqa: E731

@@ -12,11 +12,11 @@ from __future__ import annotations
 
 import multiprocessing
 import os
-import sys
 from dataclasses import dataclass
 
 import numpy as np
 
+from .. import terminal
 from ..codes import build
 from ..spec import Spec
 from .base import Channel, wilson_interval
@@ -82,10 +82,6 @@ def _run_chunk(task) -> tuple[int, int, int]:
     return count, detected, undetected
 
 
-def _interactive() -> bool:
-    return sys.stderr.isatty() and not os.environ.get("CI")
-
-
 def run(spec: Spec, ch: Channel, trials: int, seed: int = 1, workers: int | None = None,
         progress: bool | None = None, label: str = "") -> Result:
     """`trials` random trials of the spec's compiled C on channel `ch`."""
@@ -94,21 +90,11 @@ def run(spec: Spec, ch: Channel, trials: int, seed: int = 1, workers: int | None
     sizes = [CHUNK] * (trials // CHUNK) + ([trials % CHUNK] if trials % CHUNK else [])
     seeds = np.random.SeedSequence([seed, 0x5EED]).spawn(len(sizes))
     tasks = [(spec, ch, s, c) for s, c in zip(seeds, sizes)]
-    show = _interactive() if progress is None else progress
     workers = workers or min(os.cpu_count() or 1, len(tasks))
     # compile (or load) once here first, so the workers find the module in the cache
     from .. import verify
     verify.module_for(build(spec))
     done = det = und = 0
-
-    def tick() -> None:
-        if show:
-            width = 30
-            filled = int(width * done / trials)
-            print(f"\r  simulating {label or spec.name} [{'#' * filled}{'.' * (width - filled)}] "
-                  f"{done}/{trials}", end="", file=sys.stderr, flush=True)
-
-    tick()
     if workers <= 1 or len(tasks) == 1:
         results = map(_run_chunk, tasks)
         pool = None
@@ -116,11 +102,12 @@ def run(spec: Spec, ch: Channel, trials: int, seed: int = 1, workers: int | None
         pool = multiprocessing.get_context().Pool(workers)
         results = pool.imap_unordered(_run_chunk, tasks)
     try:
-        for count, d, u in results:
-            done += count
-            det += d
-            und += u
-            tick()
+        with terminal.progress(trials, f"simulating {label or spec.name}", progress) as advance:
+            for count, d, u in results:
+                done += count
+                det += d
+                und += u
+                advance(count)
     except BaseException:
         if pool is not None:
             pool.terminate()          # our own workers only; the remaining chunks are not wanted
@@ -129,6 +116,4 @@ def run(spec: Spec, ch: Channel, trials: int, seed: int = 1, workers: int | None
         if pool is not None:
             pool.close()
             pool.join()
-    if show:
-        print("\r" + " " * 72 + "\r", end="", file=sys.stderr, flush=True)
     return Result(trials=done, failures=det + und, detected=det, undetected=und)
