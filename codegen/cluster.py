@@ -40,6 +40,10 @@ def connect(scheduler: str | None = None, workers: int | None = None):
         except (OSError, TimeoutError, ValueError) as err:
             raise Unreachable(f"no scheduler at {scheduler} ({err})") from None
         try:
+            try:
+                client.wait_for_workers(1, timeout=CONNECT_TIMEOUT)
+            except TimeoutError:
+                raise Unreachable(f"the scheduler at {scheduler} has no workers") from None
             yield client
         finally:
             client.close()

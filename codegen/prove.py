@@ -119,7 +119,7 @@ class State:
 
     {"plan": key, "weight": w, "shard": size}  fixes the shard size of one weight of one job;
     {"done": key, "weight": w, "first": r, "count": c, "counts": [...], "failed": [...], "seconds": s}.
-    A torn last line (the run was killed while writing it) is ignored.
+    A torn last line (the run was killed while writing it) is ignored, and cut off before the next append.
     """
 
     def __init__(self, path: str | None):
@@ -128,9 +128,15 @@ class State:
         self.done: dict[tuple, dict] = {}
         self.new_plans: list[dict] = []           # written by save_plans() once the run really starts
         self.file_keys: set[str] = set()          # jobs the file already holds
+        self.cut_at: int | None = None            # length of the good records before a torn last line
+        self.newline = False                      # the last record lacks its newline
         if self.path is None or not self.path.exists():
             return
-        lines = self.path.read_text().splitlines()
+        try:
+            lines = self.path.read_bytes().decode().splitlines(keepends=True)
+        except UnicodeDecodeError:
+            raise ProveError(f"{self.path}: not a bitmend prove state file (not UTF-8 text)") from None
+        good = 0
         for i, line in enumerate(lines):
             try:
                 rec = json.loads(line)
@@ -141,7 +147,10 @@ class State:
             except (ValueError, KeyError, TypeError):
                 if i < len(lines) - 1:
                     raise ProveError(f"{self.path}: line {i + 1} is not a bitmend prove state record") from None
+                self.cut_at = good
+            good += len(line.encode())
         self.file_keys = {k for k, _ in self.plans}
+        self.newline = self.cut_at is None and bool(lines) and not lines[-1].endswith("\n")
 
     def check(self, keys: set[str]) -> None:
         if self.file_keys and not keys & self.file_keys:
@@ -150,8 +159,12 @@ class State:
 
     def _append(self, rec: dict) -> None:
         if self.path is not None:
+            if self.cut_at is not None:
+                os.truncate(self.path, self.cut_at)
+                self.cut_at = None
             with self.path.open("a") as f:
-                f.write(json.dumps(rec) + "\n")
+                f.write("\n" * self.newline + json.dumps(rec) + "\n")
+                self.newline = False
                 f.flush()
                 os.fsync(f.fileno())
 

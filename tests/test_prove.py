@@ -180,6 +180,7 @@ def test_resumed_run_gives_the_same_totals(specs, address, tmp_path):
     state.write_text("\n".join(kept) + "\n" + done[-1][:25])      # killed while writing a line
     again = certify(specs["bch63"], address, max_weight=3, state_file=str(state))
     assert rows(again) == rows(whole) and again.complete
+    assert all(json.loads(line) for line in state.read_text().splitlines())     # the torn line cut off
     assert again.resumed_shards == len(done) // 2
     assert again.patterns_run == sum(w["patterns"] for w in whole.weights) - sum(
         json.loads(line)["count"] for line in done[:len(done) // 2])
@@ -211,7 +212,7 @@ def test_ctrl_c_stops_cleanly_and_the_state_resumes(address, tmp_path):
     assert rows(cert) == {w: (math.comb(136, w), math.comb(136, w), 0, 0, 0) for w in (1, 2, 3)}
 
 
-def test_scheduler_and_worker_started_by_hand(specs, tmp_path):
+def test_scheduler_and_worker_started_by_hand(specs, tmp_path, monkeypatch, capsys):
     """The README's two commands, on 127.0.0.1, bounded in time, stopped by their process ids."""
     from distributed import Client
     info = tmp_path / "scheduler.json"
@@ -226,6 +227,10 @@ def test_scheduler_and_worker_started_by_hand(specs, tmp_path):
             time.sleep(0.1)
         addr = json.loads(info.read_text())["address"]
         assert addr.startswith("tcp://127.0.0.1:")
+        monkeypatch.setattr(cluster, "CONNECT_TIMEOUT", "1s")
+        assert cli.main(["prove", str(specs["bch15"]), "--scheduler", addr]) == 2      # no worker yet
+        assert f"the scheduler at {addr} has no workers" in capsys.readouterr().err
+        monkeypatch.undo()
         worker = subprocess.Popen([str(DASK), "worker", addr, "--host", "127.0.0.1", "--nthreads", "1",
                                    "--no-nanny", "--no-dashboard", "--lifetime", "120s"],
                                   stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL)
