@@ -143,6 +143,62 @@ def cmd_recommend(args) -> int:
     return EXIT_OK if outcome.candidates else EXIT_FAILED
 
 
+def _bytes_in(path: str) -> bytes:
+    return sys.stdin.buffer.read() if path == STDOUT else Path(path).read_bytes()
+
+
+def _bytes_out(outputs: dict[str, bytes]) -> None:
+    """Binary outputs, all or nothing ("-" is stdout); emit's text carries the bytes through surrogateescape."""
+    emit.commit([emit.Output(Path(p), d.decode("utf-8", "surrogateescape")) for p, d in outputs.items()
+                 if p != STDOUT])
+    if STDOUT in outputs:
+        sys.stdout.flush()
+        sys.stdout.buffer.write(outputs[STDOUT])
+
+
+def cmd_encode(args) -> int:
+    from . import host
+    code = host.load(args.spec, args.profile)
+    data = _bytes_in(args.input)
+    try:
+        blocks, parities = host.encode_blocks(code, data)
+    except ValueError as err:
+        print(f"bitmend: {show_path(args.input)}: {err}", file=sys.stderr)
+        return EXIT_BAD_INPUT
+    if args.parity_file:
+        outputs = {args.output: data, args.parity_file: b"".join(parities)}
+    else:
+        outputs = {args.output: host.interleave(blocks, parities)}
+    _bytes_out(outputs)
+    where = f"parity in {show_path(args.parity_file)}" if args.parity_file else "parity after each block"
+    print(f"{code.name}: {len(blocks)} block(s) of up to {code.data_bytes} bytes encoded through "
+          f"{code.through}; {where}",
+          file=sys.stderr if STDOUT in outputs else sys.stdout)
+    return EXIT_OK
+
+
+def cmd_decode(args) -> int:
+    from . import host
+    code = host.load(args.spec, args.profile)
+    data = _bytes_in(args.input)
+    try:
+        if args.parity_file:
+            blocks, parities = host.separate(code, data, _bytes_in(args.parity_file))
+        else:
+            blocks, parities = host.deinterleave(code, data)
+    except ValueError as err:
+        print(f"bitmend: {show_path(args.input)}: {err}", file=sys.stderr)
+        return EXIT_BAD_INPUT
+    result = host.decode_blocks(code, blocks, parities)
+    say = sys.stderr if args.output == STDOUT or not result.ok else sys.stdout
+    print(f"{code.name} through {code.through}: " + "\n".join(result.summary()), file=say)
+    if not result.ok:
+        print(f"bitmend: {show_path(args.input)}: uncorrectable block(s); nothing written", file=sys.stderr)
+        return EXIT_FAILED
+    _bytes_out({args.output: result.data})
+    return EXIT_OK
+
+
 def cmd_list(args) -> int:
     from . import listing, terminal
     terminal.show(*listing.all_tables())
@@ -279,6 +335,17 @@ def parser() -> argparse.ArgumentParser:
                    help="write the best candidate as a spec file into DIR (- for stdout)")
     r.add_argument("--force", action="store_true", help="let --write replace an existing spec file")
     r.set_defaults(func=cmd_recommend)
+
+    for verb, what in (("encode", "protect a file: parity for each block of IN, written to OUT"),
+                       ("decode", "repair a file that encode protected; OUT gets the corrected data")):
+        e = sub.add_parser(verb, help=what)
+        e.add_argument("spec", metavar="SPEC")
+        e.add_argument("input", metavar="IN", help="input file (- for stdin)")
+        e.add_argument("output", metavar="OUT", help="output file (- for stdout)")
+        e.add_argument("--parity-file", metavar="FILE",
+                       help="the parity in its own file (OUT, or IN for decode, then holds the data only)")
+        e.add_argument("--profile", choices=specmod.PROFILES, help="C profile to run (same bits in every one)")
+        e.set_defaults(func=cmd_encode if verb == "encode" else cmd_decode)
 
     sub.add_parser("list", help="the families with their keys and ranges, the profiles, the CRC presets"
                    ).set_defaults(func=cmd_list)
