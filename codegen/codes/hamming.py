@@ -7,6 +7,11 @@ weight >= 3, lightest first, the last weight class chosen to balance the rows; e
 odd syndrome equal to its column, every double error an even non-zero one.  SEC uses distinct columns of
 weight >= 2, lightest first.  Columns are ints with row 0 as their most significant bit, so the packed
 parity bytes, read big-endian and shifted right by the padding, are exactly the check-bit vector.
+
+Word API (data_bits <= WORD_BITS_MAX): the data as one unsigned integer, data bit 0 its most significant
+of data_bits bits (the data bytes read big-endian, padding dropped), and the check bits as one integer in
+the same way.  `encode_word` / `decode_word` are defined through the byte API, so the two agree by
+construction here and the tests hold the C's word functions against them.
 """
 from __future__ import annotations
 
@@ -52,6 +57,9 @@ def choose_columns(rows: int, k: int, weights: list[int]) -> list[int]:
             chosen.append(cls[best])
             load += bits[best]
     return chosen
+
+
+WORD_BITS_MAX = 64
 
 
 class Hamming(CodeModel):
@@ -136,6 +144,36 @@ class Hamming(CodeModel):
             return ERR_LENGTH
         return int(self._syndrome(data, parity).any())
 
+    # -- word API: the byte API on integers ---------------------------------------------------------------
+    @property
+    def word_api(self) -> bool:
+        return self.k <= WORD_BITS_MAX
+
+    def word_to_bytes(self, word: int) -> bytes:
+        return ((word & ((1 << self.k) - 1)) << (8 * self.data_bytes - self.k)).to_bytes(self.data_bytes, "big")
+
+    def bytes_to_word(self, data: bytes) -> int:
+        return int.from_bytes(data, "big") >> (8 * self.data_bytes - self.k)
+
+    def checks_to_bytes(self, checks: int) -> bytes:
+        return ((checks & ((1 << self.r) - 1)) << (8 * self.parity_bytes - self.r)).to_bytes(self.parity_bytes,
+                                                                                               "big")
+
+    def bytes_to_checks(self, parity: bytes) -> int:
+        return int.from_bytes(parity, "big") >> (8 * self.parity_bytes - self.r)
+
+    def encode_word(self, word: int) -> int:
+        """The check bits of a data word (bits above data_bits are ignored)."""
+        return self.bytes_to_checks(self.encode(self.word_to_bytes(word)))
+
+    def decode_word(self, word: int, checks: int) -> tuple[int, int, int]:
+        """(status, word, checks) like `decode`; bits above data_bits / check_bits come back unchanged."""
+        status, d, p = self.decode(self.word_to_bytes(word), self.checks_to_bytes(checks))
+        if status <= 0:
+            return status, word, checks
+        high_w, high_c = word >> self.k << self.k, checks >> self.r << self.r
+        return status, high_w | self.bytes_to_word(d), high_c | self.bytes_to_checks(p)
+
     # -- rendering ------------------------------------------------------------------------------------
     def family_context(self) -> dict:
         profile = self.spec.profile
@@ -150,6 +188,8 @@ class Hamming(CodeModel):
             "columns": self.columns,
             "row_weights": [int(x) for x in self.H[:, :self.k].sum(axis=1)],
             "byte_tables": [], "nibble_tables": [], "position_table": [], "pos_ctype": ctype_for(self.n),
+            "word_api": self.word_api,
+            "word_ctype": ctype_for((1 << self.k) - 1) if self.word_api else "",
         }
         if profile == "fast":
             ctx["byte_tables"] = [self._span_table(8 * b, 8) for b in range(self.data_bytes)]
