@@ -284,6 +284,8 @@ def _channel_options(p) -> None:
 def parser() -> argparse.ArgumentParser:
     p = _Parser(prog="bitmend", description="Error-correcting codes for firmware: TOML spec in, C99 out.")
     p.add_argument("--version", action="version", version=f"bitmend {__version__}")
+    p.add_argument("--cmake-dir", nargs=0, action=_CmakeDir,
+                   help="print the folder holding bitmend.cmake (bitmend_add_spec) and exit")
     sub = p.add_subparsers(dest="command", required=True, parser_class=_Parser)
 
     g = sub.add_parser("generate", help="render the C module of each spec")
@@ -364,6 +366,15 @@ def parser() -> argparse.ArgumentParser:
     pr.add_argument("--json", metavar="FILE", help="also write the certificate(s) as JSON (- for stdout)")
     pr.set_defaults(func=cmd_prove)
     return p
+
+
+class _CmakeDir(argparse.Action):
+    """--cmake-dir: print the folder of the shipped CMake module, like --version prints the version."""
+
+    def __call__(self, parser, namespace, values, option_string=None):
+        from importlib import resources
+        print(resources.files("codegen") / "cmake")
+        parser.exit(EXIT_OK)
 
 
 def _terminate(signum, frame):
