@@ -1,6 +1,6 @@
 """Compiles emitted C through cffi and wraps its functions for Python.
 
-The module's own C is compiled separately with the strict flags of DESIGN.md section 5 (warnings are
+The module's own C is compiled separately with the strict flags of docs/DESIGN.md §5 (warnings are
 errors), then linked into a cffi extension; the cffi declarations are derived from the emitted header by
 pycparser, after the contract's declarations have been checked there.  Builds are cached on disk by a
 hash of the sources, flags and compiler, and in memory per process, so a test run compiles each module

@@ -1,4 +1,4 @@
-"""Bit-exact campaigns: the compiled C against the Python model (DESIGN.md section 6).
+"""Bit-exact campaigns: the compiled C against the Python model (docs/DESIGN.md §6).
 
 Each case encodes a data block with both, compares the parity, flips a set of error units, then compares
 decode's return value, data and parity, and check's return value.  The C runs on guarded buffers, so a
@@ -106,7 +106,7 @@ def compare(model: CodeModel, module: harness.Module, case: Case) -> str | None:
 
 
 class _Cases:
-    """Builds the case list of DESIGN.md section 6 for one model."""
+    """Builds the case list of docs/DESIGN.md §6 for one model."""
 
     def __init__(self, model: CodeModel, rng: np.random.Generator, budget: int):
         self.model, self.rng, self.budget = model, rng, budget

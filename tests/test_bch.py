@@ -1,5 +1,5 @@
 """Binary BCH: the model's own maths, spec problems, the textbook generator polynomials, and the generated C
-against the model (DESIGN.md section 6) for the bundled examples and a few edge-shaped codes."""
+against the model (docs/DESIGN.md §6) for the bundled examples and a few edge-shaped codes."""
 from __future__ import annotations
 
 from pathlib import Path

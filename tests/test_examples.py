@@ -1,4 +1,4 @@
-"""Every bundled example, in every profile: the generated C bit-exact against the model (DESIGN.md §6)."""
+"""Every bundled example, in every profile: the generated C bit-exact against the model (docs/DESIGN.md §6)."""
 from __future__ import annotations
 
 import pytest

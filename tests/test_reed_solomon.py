@@ -1,4 +1,4 @@
-"""Reed-Solomon family: C against the model (DESIGN.md section 6, erasures included) for every example in every
+"""Reed-Solomon family: C against the model (docs/DESIGN.md §6, erasures included) for every example in every
 profile, the C API's edge cases, the header's stated costs, and spec errors through the CLI."""
 from __future__ import annotations
 

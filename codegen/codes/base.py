@@ -1,4 +1,4 @@
-"""What every code family model provides (DESIGN.md section 3).
+"""What every code family model provides (docs/DESIGN.md §3).
 
 A model is built from a validated Spec.  Its `encode`/`decode`/`check` are the Python reference: the
 meaning of the C functions of the same name, bit for bit, including the return values.

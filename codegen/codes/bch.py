@@ -4,7 +4,7 @@ shortened by leading zeros.
 Code.  g(x) is the LCM of the minimal polynomials of alpha, alpha^3, ..., alpha^(2t-1); r = deg g parity
 bits, k = 2^m - 1 - r data bits for the parent code; `data_bits` (default k) may be fewer (shortened).
 
-Layout (DESIGN.md section 4).  The message polynomial's coefficients, highest degree first, are the data
+Layout (docs/DESIGN.md §4).  The message polynomial's coefficients, highest degree first, are the data
 bits packed MSB-first: data bit i (i = 0 .. nd-1, nd = 8 * data_len or data_bits) is the coefficient of
 x^(r + nd - 1 - i).  Parity = (message * x^r) mod g(x), its r coefficients highest degree first, packed
 MSB-first: parity bit i is the coefficient of x^(r - 1 - i).  When data_bits is a multiple of 8, any
