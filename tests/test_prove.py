@@ -110,6 +110,19 @@ def test_hamming_7_4_is_perfect(specs, address):
     assert cert.complete and cert.wrong == 0
 
 
+def test_one_certificate_per_profile(specs, address, tmp_path):
+    out = tmp_path / "certs.json"
+    assert cli.main(["prove", str(specs["h74"]), "--profile", "fast", "--profile", "tiny", "--scheduler", address,
+                     "--json", str(out)]) == 0
+    certs = json.loads(out.read_text())
+    assert [c["profile"] for c in certs] == ["fast", "tiny"]
+    for c in certs:                           # the fields of issue 11's certificate
+        assert {"spec_file", "spec_sha256", "bitmend", "profile", "compiler", "flags", "data_len", "codewords",
+                "elapsed_s", "workers", "weights", "complete"} <= set(c)
+        assert c["spec_file"] == "h74.toml" and len(c["codewords"]) == 3 and c["complete"] is True
+        assert rows(c) == {1: (7, 7, 0, 0, 0), 2: (21, 0, 0, 21, 0)}
+
+
 def test_secded_72_64(specs, address):
     # SECDED: every double error has an even non-zero syndrome and is detected (Hsiao, 1970); triple
     # errors split by whether their odd syndrome is a column of H (syndromes from the model's H, which
