@@ -339,6 +339,8 @@ def parse(doc: dict, path: str, sha256: str = "") -> Spec:
             for n in map(int, re.findall(r"aligned\(([0-9]+)\)", table_attr)):
                 if not 1 <= n <= MAX_ALIGN or n & (n - 1):
                     bad("c", "table_attr", f"aligned(N) needs N a power of two, 1..{MAX_ALIGN}", n)
+            if table_attr.count("section(") > 1:
+                bad("c", "table_attr", "names more than one section", table_attr)
 
     if family:
         known = {"code", "c"} | set(FAMILIES[family])

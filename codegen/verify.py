@@ -6,6 +6,7 @@ write outside them is a failure too.
 """
 from __future__ import annotations
 
+import bisect
 import itertools
 import math
 from dataclasses import dataclass, field
@@ -105,12 +106,33 @@ def compare(model: CodeModel, module: harness.Module, case: Case) -> str | None:
     return None
 
 
+def spread(lo: int, hi: int, most: int) -> list[int]:
+    """Every integer of lo..hi when there are at most `most`, else `most` of them evenly spread, both
+    ends included: large t keeps the case count bounded while still reaching t."""
+    if hi - lo + 1 <= most:
+        return list(range(lo, hi + 1))
+    return sorted({lo + round(i * (hi - lo) / (most - 1)) for i in range(most)})
+
+
+ALL_WEIGHTS_UP_TO = 24     # a "weight w" kind for every w when t is at most this
+WEIGHT_KINDS = 32          # else at most this many (fewer on a small budget), spread over 1..t
+WEIGHTS_INSIDE = 8         # weights (or burst lengths) one kind cycles through (fewer on a small budget)
+
+
 class _Cases:
-    """Builds the case list of docs/DESIGN.md §6 for one model."""
+    """Builds the case list of docs/DESIGN.md §6 for one model, one case at a time (a campaign never
+    holds more than the current word).  Every kind has at most `budget` cases per weight it covers, and
+    the number of weights is bounded, so the total grows with the budget, not with n or t."""
 
     def __init__(self, model: CodeModel, rng: np.random.Generator, budget: int):
         self.model, self.rng, self.budget = model, rng, budget
         self.p = model.properties
+        self.kinds = max(4, min(WEIGHT_KINDS, budget))
+        self.inside = max(2, min(WEIGHTS_INSIDE, budget))
+
+    def weights(self, t: int) -> list[int]:
+        """The w of the "weight w" kinds."""
+        return list(range(1, t + 1)) if t <= ALL_WEIGHTS_UP_TO else spread(1, t, self.kinds)
 
     def data(self, n: int, pattern: str = "random") -> bytes:
         if pattern == "zeros":
@@ -122,10 +144,19 @@ class _Cases:
     def value(self) -> int:
         return 1 if self.p.unit_bits == 1 else int(self.rng.integers(1, 1 << self.p.unit_bits))
 
-    def _errors(self, units: list[int], picks) -> tuple:
+    def pick(self, total: int, w: int) -> list[int]:
+        """w distinct indexes below total, without a permutation of all of them when total is large."""
+        if total <= 1 << 16:
+            return self.rng.choice(total, w, replace=False).tolist()
+        seen: set[int] = set()
+        while len(seen) < w:
+            seen.add(int(self.rng.integers(total)))
+        return list(seen)
+
+    def _errors(self, units, picks) -> tuple:
         return tuple((units[i], self.value()) for i in sorted(picks))
 
-    def weight(self, kind: str, n: int, w: int, units: list[int] | None = None):
+    def weight(self, kind: str, n: int, w: int, units=None):
         """Every pattern of w units when affordable, else `budget` random ones."""
         units = self.model.error_units(n) if units is None else units
         if w > len(units):
@@ -135,50 +166,51 @@ class _Cases:
                 yield Case(kind, self.data(n), self._errors(units, picks))
         else:
             for _ in range(self.budget):
-                picks = self.rng.choice(len(units), w, replace=False)
-                yield Case(kind, self.data(n), self._errors(units, picks))
+                yield Case(kind, self.data(n), self._errors(units, self.pick(len(units), w)))
 
     def lengths(self) -> list[int]:
-        lens = list(self.model.data_lengths())
-        if len(lens) <= 24:
-            return lens
-        sample = self.rng.choice(lens[2:-2], 20, replace=False).tolist()
-        return sorted(set(lens[:2] + lens[-2:] + sample))
+        """Allowed data_len values: all when few, else both ends and a sample (fewer on a small budget)."""
+        lens = self.model.data_lengths()
+        most = min(24, max(2, self.budget + 1))
+        if len(lens) <= most:
+            return list(lens)
+        ends = {lens[0], lens[1], lens[-2], lens[-1]} if most >= 4 else {lens[0], lens[-1]}
+        inner = lens[2:-2]
+        sample = self.rng.choice(len(inner), max(0, min(len(inner), most - len(ends))), replace=False)
+        return sorted(ends | {inner[int(i)] for i in sample})
 
     def all(self):
         t = self.p.t
         n = self.p.data_bytes
         units = self.model.error_units(n)
+        inside = spread(1, t, self.inside)
         for length in self.lengths():
             for pattern in ("zeros", "ones", "random"):
                 yield Case("clean", self.data(length, pattern), ())
             lu = self.model.error_units(length)
-            for w in range(1, t + 4):
+            for w in spread(1, t + 3, self.inside):
                 if w <= len(lu):
-                    picks = self.rng.choice(len(lu), w, replace=False)
-                    yield Case("every data_len", self.data(length), self._errors(lu, picks))
-        for w in range(1, t + 1):
+                    yield Case("every data_len", self.data(length), self._errors(lu, self.pick(len(lu), w)))
+        for w in self.weights(t):
             yield from self.weight(f"weight {w}", n, w)
         for pattern in ("zeros", "ones"):
-            for w in range(1, t + 1):
-                picks = self.rng.choice(len(units), w, replace=False)
-                yield Case(f"{pattern} data", self.data(n, pattern), self._errors(units, picks))
-        parity_units = [u for u in units if u >= 8 * n]
-        for w in range(1, t + 1):
+            for w in inside:
+                yield Case(f"{pattern} data", self.data(n, pattern), self._errors(units, self.pick(len(units), w)))
+        parity_units = units[bisect.bisect_left(units, 8 * n):]
+        for w in inside:
             yield from self.weight("parity only", n, w, parity_units)
         ends = [(units[0],), (units[-1],), (units[0], units[-1])]
         for offsets in ends:
             yield Case("first/last unit", self.data(n), tuple((o, self.value()) for o in offsets))
-        for length in range(2, min(max(t, 1) + 4, len(units) + 1)):
+        for length in spread(2, min(max(t, 1) + 3, len(units)), self.inside):
             for _ in range(min(self.budget, 200)):
                 start = int(self.rng.integers(0, len(units) - length + 1))
                 yield Case("bursts", self.data(n), tuple((u, self.value()) for u in units[start:start + length]))
         for w in range(t + 1, t + 4):
+            if w > len(units):
+                break
             for _ in range(self.budget):
-                if w > len(units):
-                    break
-                picks = self.rng.choice(len(units), w, replace=False)
-                yield Case(f"weight {w} (beyond t)", self.data(n), self._errors(units, picks))
+                yield Case(f"weight {w} (beyond t)", self.data(n), self._errors(units, self.pick(len(units), w)))
         if hasattr(self.model, "decode_erasures"):
             yield from self.erasure_cases()
 
@@ -208,14 +240,14 @@ class _Cases:
                 out.append((units[i], v))
             return out
 
-        for e in range(1, room + 1):
+        for e in spread(1, room, self.kinds):
             for _ in range(per):
                 got = draw(e)
                 if got:
                     length, idx = got
                     yield Case("erasures", self.data(length), tuple(sorted(errs(length, idx, True))),
                                tuple(idx))
-        for e in range(0, room + 1):
+        for e in spread(0, room, self.kinds):
             fit = (room - e) // 2                 # most errors that still fit beside e erasures
             for kind, s in (("erasures+errors", fit), ("erasures+errors (beyond)", fit + 1),
                             ("erasures+errors (beyond)", fit + 2)):
@@ -255,7 +287,9 @@ def campaign(model: CodeModel, module: harness.Module, seed: int = 1, budget: in
     label = f"{model.spec.name} [{model.spec.profile}]"
     total = case_count(model, seed, budget)
     if announce:
-        announce(f"{label}: {total} cases, the C against the model")
+        word = model.properties.data_bytes + model.properties.parity_bytes
+        announce(f"{label}: {total} cases, the C against the model; one word in memory at a time "
+                 f"({word} bytes of data + parity, a few times that in the model's working copies)")
     cases = _Cases(model, np.random.default_rng(seed), budget)
     with terminal.progress(total, label, progress) as advance:
         for case in cases.all():

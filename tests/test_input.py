@@ -92,6 +92,13 @@ def test_aligned_needs_a_power_of_two(tmp_path, capsys, n):
         f"bad.toml: [c] table_attr: aligned(N) needs N a power of two, 1..4096 (got {n})"]
 
 
+def test_two_sections_refused(tmp_path, capsys):
+    """gcc: "section of 'x' conflicts with previous declaration" (found by test_fuzz_spec)."""
+    text = HAMMING.format(bits=8) + "[c]\ntable_attr = '__attribute__((section(\".a\"), section(\".b\")))'\n"
+    lines = generate_bad(tmp_path, capsys, text)
+    assert len(lines) == 1 and lines[0].startswith("bad.toml: [c] table_attr: names more than one section")
+
+
 @pytest.mark.parametrize("name", ["stdint", "stddef", "string", "math", "stdio", "unistd", "pthread",
                                   "threads", "stdatomic", "endian"])
 def test_standard_header_names_refused(tmp_path, capsys, name):

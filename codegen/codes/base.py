@@ -6,6 +6,7 @@ meaning of the C functions of the same name, bit for bit, including the return v
 from __future__ import annotations
 
 from abc import ABC, abstractmethod
+from collections.abc import Sequence
 from dataclasses import dataclass
 
 from ..spec import Spec
@@ -68,14 +69,14 @@ class CodeModel(ABC):
         """Parity bytes that encode writes for this data_len."""
         return self.properties.parity_bytes
 
-    def error_units(self, data_len: int) -> list[int]:
+    def error_units(self, data_len: int) -> Sequence[int]:
         """Bit offsets, in the concatenation data || parity, where a unit of the code begins.
 
         An error in one unit is an XOR of a non-zero value of `unit_bits` bits starting there.  Padding bits
         that carry no code bit are excluded.
         """
         total = (data_len + self.parity_len(data_len)) * 8
-        return list(range(total))
+        return range(total)                  # a range: 33 million offsets cost nothing until used
 
     # -- the reference -----------------------------------------------------------------------------------
     @abstractmethod

@@ -185,7 +185,8 @@ class CrcRepetition(CodeModel):
             chosen = next((b for b in blocks if self._block_ok(b, n)), None)
         if chosen is None:
             return ERR_UNCORRECTABLE, data, parity
-        changed = sum(bin(x ^ y).count("1") for b in blocks for x, y in zip(b, chosen))
+        target = int.from_bytes(chosen, "big")
+        changed = sum((int.from_bytes(b, "big") ^ target).bit_count() for b in blocks)
         used = self.parity_len(n)
         new_parity = chosen[n:] + chosen * (self.copies - 1) + parity[used:]
         return min(changed, MAX_COUNT), chosen[:n], new_parity
