@@ -4,7 +4,7 @@ VENV    := .venv
 BIN     := $(VENV)/bin
 SPECS   := $(sort $(wildcard examples/*.toml))
 
-.PHONY: all generate firmware test bench check-generated clean
+.PHONY: all generate firmware test fuzz bench check-generated clean
 
 all: generate firmware
 
@@ -29,6 +29,13 @@ firmware: $(VENV)/.installed
 
 test: $(VENV)/.installed-test
 	$(BIN)/python -m pytest
+
+# The fuzz tests of the suite, run long: libFuzzer inputs per C target, examples per spec property.
+FUZZ_RUNS     ?= 300000
+FUZZ_EXAMPLES ?= 2000
+fuzz: $(VENV)/.installed-test
+	BITMEND_FUZZ_RUNS=$(FUZZ_RUNS) BITMEND_FUZZ_EXAMPLES=$(FUZZ_EXAMPLES) \
+		$(BIN)/python -m pytest tests/test_fuzz_c.py tests/test_fuzz_spec.py
 
 bench: $(VENV)/.installed-test
 	$(BIN)/python bench/run.py
