@@ -81,9 +81,15 @@ def cmd_generate(args) -> int:
         except ValueError as err:
             print(f"bitmend: --depfile: {specmod.escape(str(err), None)}", file=sys.stderr)
             return EXIT_BAD_INPUT
-    for path in _deliver(args, outputs + extra):
-        if path in {o.path for o in outputs}:
-            _say(args, f"wrote {show_path(path)}")
+    written = [p for p in _deliver(args, outputs + extra) if p in {o.path for o in outputs}]
+    for path in written:
+        _say(args, f"wrote {show_path(path)}")
+    for spec in specs:
+        note, warning = emit.table_notes(spec, outputs)
+        if any(path.stem == spec.name for path in written):
+            _say(args, note)
+        if warning:
+            print(warning, file=sys.stderr)
     return EXIT_OK
 
 

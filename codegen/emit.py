@@ -23,7 +23,7 @@ import jinja2.meta
 
 from . import __version__
 from .codes import build
-from .codes.base import CodeModel
+from .codes.base import ARRAY_BYTES_16BIT, CodeModel
 from .spec import Problem, Spec, SpecError, show_path
 
 
@@ -318,3 +318,36 @@ def depfile_text(outputs: list[Output]) -> str:
                 listed.add(p)
                 lines.append(f"{make_escape(p)}:")
     return "\n".join(lines) + "\n"
+
+
+_TABLE_DECL = re.compile(r"static const (\w+) (\w+)\[(\d+)\]")
+_TYPEDEF = re.compile(r"typedef (\w+) (\w+);")
+
+
+def tables(files: dict[str, str]) -> dict[str, int]:
+    """Bytes of each constant table declared in one rendered module ({file name: text})."""
+    text = "\n".join(files.values())
+    typedefs = {new: old for old, new in _TYPEDEF.findall(text)}
+
+    def size(ctype: str) -> int:
+        while ctype in typedefs:
+            ctype = typedefs[ctype]
+        return int(re.fullmatch(r"uint(\d+)_t", ctype).group(1)) // 8
+
+    return {name: int(count) * size(ctype) for ctype, name, count in _TABLE_DECL.findall(text)}
+
+
+def table_notes(spec: Spec, outputs: list[Output]) -> tuple[str, str | None]:
+    """(what the module's tables cost, a warning when one of them cannot exist on a 16-bit target)."""
+    sizes = tables({o.path.name: o.text for o in outputs if o.path.stem == spec.name})
+    note = f"{spec.name}: profile {spec.profile}, {sum(sizes.values())} table bytes"
+    if sizes:
+        largest = max(sizes, key=sizes.get)
+        note += f" (largest {largest}, {sizes[largest]})"
+    big = [n for n, b in sizes.items() if b > ARRAY_BYTES_16BIT]
+    if not big:
+        return note, None
+    fit, fit_bytes = build(spec).profile_for_16bit()
+    return note, (f"{spec.source_name}: warning: {', '.join(big)} exceed {ARRAY_BYTES_16BIT} bytes, more than one "
+                  f"array may hold on a 16-bit target (AVR, MSP430), where the C stops with #error; profile "
+                  f"{fit!r} fits ({fit_bytes} table bytes)")

@@ -168,6 +168,7 @@ FAMILIES: dict[str, dict[str, type]] = {
     "reed-solomon": {"reed-solomon": ReedSolomonTable},
 }
 PROFILES = ("fast", "small", "tiny")
+TABLE_SPACES = ("const", "avr-progmem")
 
 C_KEYWORDS = frozenset("""
     auto break case char const continue default do double else enum extern float for goto if inline int long
@@ -218,6 +219,7 @@ class Spec:
     profile: str
     table_attr: str
     params: dict = field(hash=False, compare=False)
+    table_space: str = "const"
 
     @property
     def source_name(self) -> str:
@@ -302,7 +304,7 @@ def parse(doc: dict, path: str, sha256: str = "") -> Spec:
     code = _table(doc, "code", bad)
     c = _table(doc, "c", bad, required=False)
     _unknown(code, "code", {"name", "family"}, bad)
-    _unknown(c, "c", {"profile", "table_attr"}, bad)
+    _unknown(c, "c", {"profile", "table_attr", "table_space"}, bad)
 
     name = _string(code, "code", "name", bad)
     if name is not None:
@@ -341,6 +343,16 @@ def parse(doc: dict, path: str, sha256: str = "") -> Spec:
                     bad("c", "table_attr", f"aligned(N) needs N a power of two, 1..{MAX_ALIGN}", n)
             if table_attr.count("section(") > 1:
                 bad("c", "table_attr", "names more than one section", table_attr)
+    table_space = "const"
+    if "table_space" in c:
+        table_space = _string(c, "c", "table_space", bad) or "const"
+        if table_space not in TABLE_SPACES:
+            bad("c", "table_space", f"must be one of {', '.join(TABLE_SPACES)}", table_space)
+    if ".progmem" in table_attr:            # tables in flash need the matching reads: only table_space has them
+        bad("c", "table_attr", 'must not name a .progmem section; use table_space = "avr-progmem"', table_attr)
+    elif "section(" in table_attr and table_space == "avr-progmem":
+        bad("c", "table_attr", 'must not name a section with table_space = "avr-progmem" (PROGMEM places '
+            "the tables)", table_attr)
 
     if family:
         known = {"code", "c"} | set(FAMILIES[family])
@@ -369,7 +381,7 @@ def parse(doc: dict, path: str, sha256: str = "") -> Spec:
                            profile=profile if profile in PROFILES else "fast", table_attr="", params=params)
         raise SpecError(sort_problems(problems), partial)
     return Spec(path=path, sha256=sha256, name=name, family=family, profile=profile,
-                table_attr=table_attr, params=params)
+                table_attr=table_attr, params=params, table_space=table_space)
 
 
 def _table(doc: dict, name: str, bad, required: bool = True) -> dict:

@@ -5,9 +5,27 @@
  */
 #include "beacon_telemetry.h"
 
-/* Placement of the constant tables; define BEACON_TELEMETRY_TABLE_ATTR (e.g. a section attribute) to override. */
+/* Tables are placed by BEACON_TELEMETRY_TABLE_ATTR and read only through BEACON_TELEMETRY_TABLE_READ8/16/32/64(table, index).
+ * Override the attribute and all four reads together (-D...): an attribute alone is refused, as plain
+ * loads would then read the wrong memory on a part with separate program memory. */
+#if defined(BEACON_TELEMETRY_TABLE_ATTR) && !(defined(BEACON_TELEMETRY_TABLE_READ8) && defined(BEACON_TELEMETRY_TABLE_READ16) \
+    && defined(BEACON_TELEMETRY_TABLE_READ32) && defined(BEACON_TELEMETRY_TABLE_READ64))
+#error "BEACON_TELEMETRY_TABLE_ATTR is defined without BEACON_TELEMETRY_TABLE_READ8/16/32/64: define the reads that match the placement"
+#endif
 #ifndef BEACON_TELEMETRY_TABLE_ATTR
 #define BEACON_TELEMETRY_TABLE_ATTR
+#endif
+#ifndef BEACON_TELEMETRY_TABLE_READ8
+#define BEACON_TELEMETRY_TABLE_READ8(table, index)  ((table)[index])
+#endif
+#ifndef BEACON_TELEMETRY_TABLE_READ16
+#define BEACON_TELEMETRY_TABLE_READ16(table, index) ((table)[index])
+#endif
+#ifndef BEACON_TELEMETRY_TABLE_READ32
+#define BEACON_TELEMETRY_TABLE_READ32(table, index) ((table)[index])
+#endif
+#ifndef BEACON_TELEMETRY_TABLE_READ64
+#define BEACON_TELEMETRY_TABLE_READ64(table, index) ((table)[index])
 #endif
 
 #define BEACON_TELEMETRY_NROOTS        8u   /* parity symbols n - k: the generator's degree */
@@ -63,6 +81,9 @@ BEACON_TELEMETRY_TABLE_ATTR static const uint8_t beacon_telemetry_log[256] = {
     0x4Fu, 0xAEu, 0xD5u, 0xE9u, 0xE6u, 0xE7u, 0xADu, 0xE8u, 0x74u, 0xD6u, 0xF4u, 0xEAu, 0xA8u, 0x50u, 0x58u, 0xAFu
 };
 
+#define BEACON_TELEMETRY_EXP(i) BEACON_TELEMETRY_TABLE_READ8(beacon_telemetry_exp, i)
+#define BEACON_TELEMETRY_LOG(x) BEACON_TELEMETRY_TABLE_READ8(beacon_telemetry_log, x)
+
 /* root_log[i] = log_alpha of beta^(first_root + i), the generator's roots, i = 0..7. */
 BEACON_TELEMETRY_TABLE_ATTR static const uint8_t beacon_telemetry_root_log[8] = {
     0x01u, 0x02u, 0x03u, 0x04u, 0x05u, 0x06u, 0x07u, 0x08u
@@ -73,7 +94,16 @@ BEACON_TELEMETRY_TABLE_ATTR static const uint8_t beacon_telemetry_root_log[8] = 
 /* alpha^i for 0 <= i < 510. */
 static uint8_t beacon_telemetry_exp_of(unsigned i)
 {
-    return beacon_telemetry_exp[i >= BEACON_TELEMETRY_ORDER ? i - BEACON_TELEMETRY_ORDER : i];
+    return BEACON_TELEMETRY_EXP(i >= BEACON_TELEMETRY_ORDER ? i - BEACON_TELEMETRY_ORDER : i);
+}
+
+/* x mod 255 without a division: 256 = 1 there, so the high byte folds onto the low one. */
+static unsigned beacon_telemetry_mod255(unsigned x)
+{
+    while (x > BEACON_TELEMETRY_ORDER) {
+        x = (x & 0xFFu) + (x >> 8);
+    }
+    return x == BEACON_TELEMETRY_ORDER ? 0u : x;
 }
 
 static uint8_t beacon_telemetry_mul(uint8_t a, uint8_t b)
@@ -81,31 +111,31 @@ static uint8_t beacon_telemetry_mul(uint8_t a, uint8_t b)
     if (a == 0u || b == 0u) {
         return 0u;
     }
-    return beacon_telemetry_exp_of((unsigned)beacon_telemetry_log[a] + beacon_telemetry_log[b]);
+    return beacon_telemetry_exp_of((unsigned)BEACON_TELEMETRY_LOG(a) + BEACON_TELEMETRY_LOG(b));
 }
 
 /* beta^p */
 static uint8_t beacon_telemetry_beta_pow(unsigned p)
 {
-    return beacon_telemetry_exp_of((p * BEACON_TELEMETRY_BETA_LOG) % BEACON_TELEMETRY_ORDER);
+    return beacon_telemetry_exp_of(beacon_telemetry_mod255(p * BEACON_TELEMETRY_BETA_LOG));
 }
 
 /* A multiplier prepared once for several products: its log, x != 0. */
 static unsigned beacon_telemetry_factor(uint8_t x)
 {
-    return beacon_telemetry_log[x];
+    return BEACON_TELEMETRY_LOG(x);
 }
 
 /* 1 / x as a prepared multiplier (a log, 1..255), x != 0. */
 static unsigned beacon_telemetry_inv_factor(uint8_t x)
 {
-    return BEACON_TELEMETRY_ORDER - beacon_telemetry_log[x];
+    return BEACON_TELEMETRY_ORDER - BEACON_TELEMETRY_LOG(x);
 }
 
 /* a times a prepared multiplier f. */
 static uint8_t beacon_telemetry_scale(uint8_t a, unsigned f)
 {
-    return a == 0u ? (uint8_t)0u : beacon_telemetry_exp_of((unsigned)beacon_telemetry_log[a] + f);
+    return a == 0u ? (uint8_t)0u : beacon_telemetry_exp_of((unsigned)BEACON_TELEMETRY_LOG(a) + f);
 }
 
 /* -- encoder ----------------------------------------------------------------------------------------- */
@@ -132,9 +162,9 @@ static void beacon_telemetry_remainder(const uint8_t *data, size_t data_len, uin
             reg[BEACON_TELEMETRY_NROOTS - 1u] = 0u;
             continue;
         }
-        lf = beacon_telemetry_log[fb];
+        lf = BEACON_TELEMETRY_LOG(fb);
         for (j = 0; j < BEACON_TELEMETRY_NROOTS; j++) {
-            gl = beacon_telemetry_gen_log[j];
+            gl = BEACON_TELEMETRY_TABLE_READ8(beacon_telemetry_gen_log, j);
             v = gl == BEACON_TELEMETRY_ZERO_LOG ? (uint8_t)0u : beacon_telemetry_exp_of(lf + gl);
             reg[j] = (uint8_t)((j + 1u < BEACON_TELEMETRY_NROOTS ? reg[j + 1u] : 0u) ^ v);
         }
@@ -196,7 +226,7 @@ static void beacon_telemetry_syndromes(const uint8_t rem[BEACON_TELEMETRY_NROOTS
     for (j = 1; j < BEACON_TELEMETRY_NROOTS; j++) {
         for (i = 0; i < BEACON_TELEMETRY_NROOTS; i++) {
             s = synd[i];
-            s = s == 0u ? (uint8_t)0u : beacon_telemetry_exp_of((unsigned)beacon_telemetry_log[s] + beacon_telemetry_root_log[i]);
+            s = s == 0u ? (uint8_t)0u : beacon_telemetry_exp_of((unsigned)BEACON_TELEMETRY_LOG(s) + BEACON_TELEMETRY_TABLE_READ8(beacon_telemetry_root_log, i));
             synd[i] = (uint8_t)(s ^ rem[j]);
         }
     }
@@ -214,6 +244,8 @@ static unsigned beacon_telemetry_berlekamp(const uint8_t synd[BEACON_TELEMETRY_N
     unsigned top;
     unsigned r;
     unsigned j;
+    unsigned k;                        /* loops count k up, j = top - k down: avr-gcc 5 -O3 misreads a */
+                                       /* plain downward loop as out of bounds (-Warray-bounds) */
     unsigned fd;
     unsigned fi;
     uint8_t delta;
@@ -233,7 +265,8 @@ static unsigned beacon_telemetry_berlekamp(const uint8_t synd[BEACON_TELEMETRY_N
         }
         if (delta == 0u) {
             /* b <- x b */
-            for (j = top; j >= 1u; j--) {
+            for (k = 0; k < top; k++) {
+                j = top - k;
                 b[j] = b[j - 1u];
             }
             b[0] = 0u;
@@ -242,7 +275,8 @@ static unsigned beacon_telemetry_berlekamp(const uint8_t synd[BEACON_TELEMETRY_N
             /* lam <- lam - delta x b and b <- lam / delta, from the old lam; the register grows */
             fd = beacon_telemetry_factor(delta);
             fi = beacon_telemetry_inv_factor(delta);
-            for (j = top; j >= 1u; j--) {
+            for (k = 0; k < top; k++) {
+                j = top - k;
                 old = lam[j];
                 lam[j] = (uint8_t)(old ^ beacon_telemetry_scale(b[j - 1u], fd));
                 b[j] = beacon_telemetry_scale(old, fi);
@@ -254,7 +288,8 @@ static unsigned beacon_telemetry_berlekamp(const uint8_t synd[BEACON_TELEMETRY_N
         } else {
             /* lam <- lam - delta x b, b <- x b */
             fd = beacon_telemetry_factor(delta);
-            for (j = top; j >= 1u; j--) {
+            for (k = 0; k < top; k++) {
+                j = top - k;
                 lam[j] = (uint8_t)(lam[j] ^ beacon_telemetry_scale(b[j - 1u], fd));
                 b[j] = b[j - 1u];
             }
@@ -295,9 +330,9 @@ static unsigned beacon_telemetry_chien(const uint8_t lam[BEACON_TELEMETRY_NROOTS
     for (first = 1; first <= 2u; first++) {
         for (i = first; i <= deg; i += 2u) {
             if (lam[i] != 0u) {
-                lg[nt] = beacon_telemetry_log[lam[i]];
+                lg[nt] = BEACON_TELEMETRY_LOG(lam[i]);
                 for (k = 0; k < 4u; k++) {
-                    st[k][nt] = (uint16_t)(((k + 1u) * ((i * BEACON_TELEMETRY_BETA_INV_LOG) % BEACON_TELEMETRY_ORDER)) % BEACON_TELEMETRY_ORDER);
+                    st[k][nt] = (uint16_t)beacon_telemetry_mod255((k + 1u) * beacon_telemetry_mod255(i * BEACON_TELEMETRY_BETA_INV_LOG));
                 }
                 nt++;
             }
@@ -372,19 +407,19 @@ static void beacon_telemetry_forney(const uint8_t synd[BEACON_TELEMETRY_NROOTS],
     }
     for (f = 0; f < deg; f++) {
         p = where[f];
-        xl = (p * BEACON_TELEMETRY_BETA_INV_LOG) % BEACON_TELEMETRY_ORDER;
+        xl = beacon_telemetry_mod255(p * BEACON_TELEMETRY_BETA_INV_LOG);
         acc = om[deg - 1u];
         for (i = deg - 1u; i >= 1u; i--) {
             if (acc != 0u) {
-                acc = beacon_telemetry_exp_of((unsigned)beacon_telemetry_log[acc] + xl);
+                acc = beacon_telemetry_exp_of((unsigned)BEACON_TELEMETRY_LOG(acc) + xl);
             }
             acc = (uint8_t)(acc ^ om[i - 1u]);
         }
         if (acc == 0u) {
             value[f] = 0u;
         } else {
-            value[f] = beacon_telemetry_exp_of(((unsigned)beacon_telemetry_log[acc] + 2u * BEACON_TELEMETRY_ORDER - beacon_telemetry_log[odd_part[f]]
-                                        - (p * BEACON_TELEMETRY_FR_LOG) % BEACON_TELEMETRY_ORDER) % BEACON_TELEMETRY_ORDER);
+            value[f] = beacon_telemetry_exp_of(beacon_telemetry_mod255((unsigned)BEACON_TELEMETRY_LOG(acc) + 2u * BEACON_TELEMETRY_ORDER
+                                                     - BEACON_TELEMETRY_LOG(odd_part[f]) - beacon_telemetry_mod255(p * BEACON_TELEMETRY_FR_LOG)));
         }
     }
 }
@@ -408,6 +443,7 @@ static int beacon_telemetry_correct(uint8_t *data, size_t data_len, uint8_t *par
     unsigned pos;
     unsigned i;
     unsigned j;
+    unsigned k;
     uint8_t x;
 
     beacon_telemetry_remainder(data, data_len, rem);
@@ -429,7 +465,8 @@ static int beacon_telemetry_correct(uint8_t *data, size_t data_len, uint8_t *par
     lam[0] = 1u;
     for (i = 0; i < count; i++) {
         x = beacon_telemetry_beta_pow(total - 1u - (unsigned)positions[i]);
-        for (j = i + 1u; j >= 1u; j--) {
+        for (k = 0; k <= i; k++) {
+            j = i + 1u - k;
             lam[j] = (uint8_t)(lam[j] ^ beacon_telemetry_mul(x, lam[j - 1u]));
         }
     }

@@ -5,9 +5,27 @@
  */
 #include "boot_header.h"
 
-/* Placement of the constant tables; define BOOT_HEADER_TABLE_ATTR (e.g. a section attribute) to override. */
+/* Tables are placed by BOOT_HEADER_TABLE_ATTR and read only through BOOT_HEADER_TABLE_READ8/16/32/64(table, index).
+ * Override the attribute and all four reads together (-D...): an attribute alone is refused, as plain
+ * loads would then read the wrong memory on a part with separate program memory. */
+#if defined(BOOT_HEADER_TABLE_ATTR) && !(defined(BOOT_HEADER_TABLE_READ8) && defined(BOOT_HEADER_TABLE_READ16) \
+    && defined(BOOT_HEADER_TABLE_READ32) && defined(BOOT_HEADER_TABLE_READ64))
+#error "BOOT_HEADER_TABLE_ATTR is defined without BOOT_HEADER_TABLE_READ8/16/32/64: define the reads that match the placement"
+#endif
 #ifndef BOOT_HEADER_TABLE_ATTR
 #define BOOT_HEADER_TABLE_ATTR
+#endif
+#ifndef BOOT_HEADER_TABLE_READ8
+#define BOOT_HEADER_TABLE_READ8(table, index)  ((table)[index])
+#endif
+#ifndef BOOT_HEADER_TABLE_READ16
+#define BOOT_HEADER_TABLE_READ16(table, index) ((table)[index])
+#endif
+#ifndef BOOT_HEADER_TABLE_READ32
+#define BOOT_HEADER_TABLE_READ32(table, index) ((table)[index])
+#endif
+#ifndef BOOT_HEADER_TABLE_READ64
+#define BOOT_HEADER_TABLE_READ64(table, index) ((table)[index])
 #endif
 
 typedef boot_header_crc_value_t boot_header_reg_t;
@@ -23,6 +41,7 @@ BOOT_HEADER_TABLE_ATTR static const boot_header_reg_t boot_header_table[16] = {
     0x00000000UL, 0x1DB71064UL, 0x3B6E20C8UL, 0x26D930ACUL, 0x76DC4190UL, 0x6B6B51F4UL, 0x4DB26158UL, 0x5005713CUL,
     0xEDB88320UL, 0xF00F9344UL, 0xD6D6A3E8UL, 0xCB61B38CUL, 0x9B64C2B0UL, 0x86D3D2D4UL, 0xA00AE278UL, 0xBDBDF21CUL
 };
+#define BOOT_HEADER_ENTRY(i) BOOT_HEADER_TABLE_READ32(boot_header_table, i)
 
 boot_header_crc_value_t boot_header_crc_start(void)
 {
@@ -38,8 +57,8 @@ boot_header_crc_value_t boot_header_crc_add(boot_header_crc_value_t state, const
         return state;
     }
     for (i = 0; i < len; i++) {
-        reg = (boot_header_reg_t)(boot_header_table[(reg ^ data[i]) & 0x0Fu] ^ (reg >> 4));
-        reg = (boot_header_reg_t)(boot_header_table[(reg ^ ((unsigned)data[i] >> 4)) & 0x0Fu] ^ (reg >> 4));
+        reg = (boot_header_reg_t)(BOOT_HEADER_ENTRY((reg ^ data[i]) & 0x0Fu) ^ (reg >> 4));
+        reg = (boot_header_reg_t)(BOOT_HEADER_ENTRY((reg ^ ((unsigned)data[i] >> 4)) & 0x0Fu) ^ (reg >> 4));
     }
     return reg;
 }

@@ -5,9 +5,27 @@
  */
 #include "cal_word.h"
 
-/* Placement of the constant tables; define CAL_WORD_TABLE_ATTR (e.g. a section attribute) to override. */
+/* Tables are placed by CAL_WORD_TABLE_ATTR and read only through CAL_WORD_TABLE_READ8/16/32/64(table, index).
+ * Override the attribute and all four reads together (-D...): an attribute alone is refused, as plain
+ * loads would then read the wrong memory on a part with separate program memory. */
+#if defined(CAL_WORD_TABLE_ATTR) && !(defined(CAL_WORD_TABLE_READ8) && defined(CAL_WORD_TABLE_READ16) \
+    && defined(CAL_WORD_TABLE_READ32) && defined(CAL_WORD_TABLE_READ64))
+#error "CAL_WORD_TABLE_ATTR is defined without CAL_WORD_TABLE_READ8/16/32/64: define the reads that match the placement"
+#endif
 #ifndef CAL_WORD_TABLE_ATTR
 #define CAL_WORD_TABLE_ATTR
+#endif
+#ifndef CAL_WORD_TABLE_READ8
+#define CAL_WORD_TABLE_READ8(table, index)  ((table)[index])
+#endif
+#ifndef CAL_WORD_TABLE_READ16
+#define CAL_WORD_TABLE_READ16(table, index) ((table)[index])
+#endif
+#ifndef CAL_WORD_TABLE_READ32
+#define CAL_WORD_TABLE_READ32(table, index) ((table)[index])
+#endif
+#ifndef CAL_WORD_TABLE_READ64
+#define CAL_WORD_TABLE_READ64(table, index) ((table)[index])
 #endif
 
 #define CAL_WORD_PARITY_PAD  1u
@@ -43,8 +61,8 @@ static cal_word_col_t cal_word_data_checks(const uint8_t *data)
     size_t b;
 
     for (b = 0; b < CAL_WORD_DATA_BYTES; b++) {
-        acc = (cal_word_col_t)(acc ^ cal_word_nibble[b * 32u + ((unsigned)data[b] >> 4)]);
-        acc = (cal_word_col_t)(acc ^ cal_word_nibble[b * 32u + 16u + (data[b] & 0x0Fu)]);
+        acc = (cal_word_col_t)(acc ^ CAL_WORD_TABLE_READ8(cal_word_nibble, b * 32u + ((unsigned)data[b] >> 4)));
+        acc = (cal_word_col_t)(acc ^ CAL_WORD_TABLE_READ8(cal_word_nibble, b * 32u + 16u + (data[b] & 0x0Fu)));
     }
     return acc;
 }
@@ -96,7 +114,7 @@ static size_t cal_word_locate(cal_word_col_t s)
         }
     }
     for (i = 0; i < CAL_WORD_DATA_BITS; i++) {
-        if (cal_word_nibble[(i >> 2) * 16u + (8u >> (i & 3u))] == s) {
+        if (CAL_WORD_TABLE_READ8(cal_word_nibble, (i >> 2) * 16u + (8u >> (i & 3u))) == s) {
             return i;
         }
     }

@@ -5,9 +5,27 @@
  */
 #include "flash_page.h"
 
-/* Placement of the constant tables; define FLASH_PAGE_TABLE_ATTR (e.g. a section attribute) to override. */
+/* Tables are placed by FLASH_PAGE_TABLE_ATTR and read only through FLASH_PAGE_TABLE_READ8/16/32/64(table, index).
+ * Override the attribute and all four reads together (-D...): an attribute alone is refused, as plain
+ * loads would then read the wrong memory on a part with separate program memory. */
+#if defined(FLASH_PAGE_TABLE_ATTR) && !(defined(FLASH_PAGE_TABLE_READ8) && defined(FLASH_PAGE_TABLE_READ16) \
+    && defined(FLASH_PAGE_TABLE_READ32) && defined(FLASH_PAGE_TABLE_READ64))
+#error "FLASH_PAGE_TABLE_ATTR is defined without FLASH_PAGE_TABLE_READ8/16/32/64: define the reads that match the placement"
+#endif
 #ifndef FLASH_PAGE_TABLE_ATTR
 #define FLASH_PAGE_TABLE_ATTR
+#endif
+#ifndef FLASH_PAGE_TABLE_READ8
+#define FLASH_PAGE_TABLE_READ8(table, index)  ((table)[index])
+#endif
+#ifndef FLASH_PAGE_TABLE_READ16
+#define FLASH_PAGE_TABLE_READ16(table, index) ((table)[index])
+#endif
+#ifndef FLASH_PAGE_TABLE_READ32
+#define FLASH_PAGE_TABLE_READ32(table, index) ((table)[index])
+#endif
+#ifndef FLASH_PAGE_TABLE_READ64
+#define FLASH_PAGE_TABLE_READ64(table, index) ((table)[index])
 #endif
 
 typedef uint16_t flash_page_gf_t;      /* an element of GF(2^13), polynomial basis */
@@ -25,6 +43,9 @@ typedef uint16_t flash_page_pos_t;     /* a bit position (degree) in the codewor
 
 /* Remainder update: row v (FLASH_PAGE_WORDS words) is (v(x) * x^104) mod g(x) left-aligned, for every
  * 8-bit v; computed by the bitmend model by polynomial division. */
+#if 1024L * 32L / 8L > PTRDIFF_MAX
+#error "flash_page_rem_table exceeds PTRDIFF_MAX bytes, the largest array of this (16-bit) target: generate with [c] profile = \"tiny\" (16 table bytes)"
+#endif
 FLASH_PAGE_TABLE_ATTR static const flash_page_word_t flash_page_rem_table[1024] = {
     0x00000000UL, 0x00000000UL, 0x00000000UL, 0x00000000UL,
     0x15F914E0UL, 0x7B0C1387UL, 0x41C5C4FBUL, 0x23000000UL,
@@ -286,6 +307,9 @@ FLASH_PAGE_TABLE_ATTR static const flash_page_word_t flash_page_rem_table[1024] 
 
 /* exp[i] = alpha^(i mod 2^m - 1) in GF(2^13) for 0 <= i < 2^m - 1 + 504 (field polynomial
  * 0x201B); the run-on past 2^m - 2 serves the Chien search. */
+#if 8695L * 16L / 8L > PTRDIFF_MAX
+#error "flash_page_exp exceeds PTRDIFF_MAX bytes, the largest array of this (16-bit) target: generate with [c] profile = \"tiny\" (16 table bytes)"
+#endif
 FLASH_PAGE_TABLE_ATTR static const flash_page_gf_t flash_page_exp[8695] = {
     0x0001u, 0x0002u, 0x0004u, 0x0008u, 0x0010u, 0x0020u, 0x0040u, 0x0080u,
     0x0100u, 0x0200u, 0x0400u, 0x0800u, 0x1000u, 0x001Bu, 0x0036u, 0x006Cu,
@@ -1377,6 +1401,9 @@ FLASH_PAGE_TABLE_ATTR static const flash_page_gf_t flash_page_exp[8695] = {
 };
 
 /* log[x] = i with alpha^i = x, for x = 1 .. 2^m - 1; log[0] is unused (0). */
+#if 8192L * 16L / 8L > PTRDIFF_MAX
+#error "flash_page_log exceeds PTRDIFF_MAX bytes, the largest array of this (16-bit) target: generate with [c] profile = \"tiny\" (16 table bytes)"
+#endif
 FLASH_PAGE_TABLE_ATTR static const flash_page_gf_t flash_page_log[8192] = {
     0x0000u, 0x0000u, 0x0001u, 0x03A6u, 0x0002u, 0x074Cu, 0x03A7u, 0x18C0u,
     0x0003u, 0x1C66u, 0x074Du, 0x01EAu, 0x03A8u, 0x005Du, 0x18C1u, 0x0AF2u,
@@ -2404,6 +2431,9 @@ FLASH_PAGE_TABLE_ATTR static const flash_page_gf_t flash_page_log[8192] = {
     0x1498u, 0x1C5Du, 0x0DDBu, 0x1E44u, 0x14D1u, 0x151Cu, 0x0DF6u, 0x1CB7u
 };
 
+#define FLASH_PAGE_EXP(i) FLASH_PAGE_TABLE_READ16(flash_page_exp, i)
+#define FLASH_PAGE_LOG(x) FLASH_PAGE_TABLE_READ16(flash_page_log, x)
+
 /* -- remainder of (message * x^r) mod g(x) ------------------------------------------------------------ */
 
 /* reg = (message * x^r) mod g(x), left-aligned, for the data bits of data[0..data_len). */
@@ -2414,14 +2444,14 @@ static void flash_page_remainder(const uint8_t *data, size_t data_len, flash_pag
     flash_page_word_t r1 = 0;
     flash_page_word_t r2 = 0;
     flash_page_word_t r3 = 0;
-    const flash_page_word_t *row;
+    size_t row;
 
     for (i = 0; i < data_len; i++) {
-        row = &flash_page_rem_table[(size_t)((unsigned)(r0 >> 24) ^ ((unsigned)data[i])) * FLASH_PAGE_WORDS];
-        r0 = (flash_page_word_t)(((r0 << 8) | (r1 >> 24)) ^ row[0]);
-        r1 = (flash_page_word_t)(((r1 << 8) | (r2 >> 24)) ^ row[1]);
-        r2 = (flash_page_word_t)(((r2 << 8) | (r3 >> 24)) ^ row[2]);
-        r3 = (flash_page_word_t)(((r3 << 8)) ^ row[3]);
+        row = (size_t)((unsigned)(r0 >> 24) ^ ((unsigned)data[i])) * FLASH_PAGE_WORDS;
+        r0 = (flash_page_word_t)(((r0 << 8) | (r1 >> 24)) ^ FLASH_PAGE_TABLE_READ32(flash_page_rem_table, row + 0u));
+        r1 = (flash_page_word_t)(((r1 << 8) | (r2 >> 24)) ^ FLASH_PAGE_TABLE_READ32(flash_page_rem_table, row + 1u));
+        r2 = (flash_page_word_t)(((r2 << 8) | (r3 >> 24)) ^ FLASH_PAGE_TABLE_READ32(flash_page_rem_table, row + 2u));
+        r3 = (flash_page_word_t)(((r3 << 8)) ^ FLASH_PAGE_TABLE_READ32(flash_page_rem_table, row + 3u));
     }
     reg[0] = r0;
     reg[1] = r1;
@@ -2453,6 +2483,15 @@ static int flash_page_fold(flash_page_word_t reg[FLASH_PAGE_WORDS], const uint8_
 
 /* -- GF(2^13) arithmetic ------------------------------------------------------------------------------ */
 
+/* x mod 2^m - 1 without a division: 2^m = 1 there, so the high bits fold onto the low ones. */
+static uint32_t flash_page_mod_order(uint32_t x)
+{
+    while ((x >> FLASH_PAGE_M) != 0u) {
+        x = (x & FLASH_PAGE_ORDER) + (x >> FLASH_PAGE_M);
+    }
+    return x >= FLASH_PAGE_ORDER ? x - FLASH_PAGE_ORDER : x;
+}
+
 static flash_page_gf_t flash_page_mul(flash_page_gf_t a, flash_page_gf_t b)
 {
     uint32_t e;
@@ -2460,11 +2499,11 @@ static flash_page_gf_t flash_page_mul(flash_page_gf_t a, flash_page_gf_t b)
     if (a == 0u || b == 0u) {
         return 0;
     }
-    e = (uint32_t)flash_page_log[a] + flash_page_log[b];
+    e = (uint32_t)FLASH_PAGE_LOG(a) + FLASH_PAGE_LOG(b);
     if (e >= FLASH_PAGE_ORDER) {
         e -= FLASH_PAGE_ORDER;
     }
-    return flash_page_exp[e];
+    return FLASH_PAGE_EXP(e);
 }
 
 /* a / b for b != 0. */
@@ -2475,11 +2514,11 @@ static flash_page_gf_t flash_page_div(flash_page_gf_t a, flash_page_gf_t b)
     if (a == 0u) {
         return 0;
     }
-    e = (uint32_t)flash_page_log[a] + FLASH_PAGE_ORDER - flash_page_log[b];
+    e = (uint32_t)FLASH_PAGE_LOG(a) + FLASH_PAGE_ORDER - FLASH_PAGE_LOG(b);
     if (e >= FLASH_PAGE_ORDER) {
         e -= FLASH_PAGE_ORDER;
     }
-    return flash_page_exp[e];
+    return FLASH_PAGE_EXP(e);
 }
 
 /* -- decoding ----------------------------------------------------------------------------------------- */
@@ -2503,7 +2542,7 @@ static void flash_page_syndromes(const flash_page_word_t reg[FLASH_PAGE_WORDS], 
         e = 0;
         for (q = FLASH_PAGE_RBITS; q > 0u; q--) {
             if (((reg[(q - 1u) >> 5] >> (31u - ((q - 1u) & 31u))) & 1u) != 0u) {
-                acc = (flash_page_gf_t)(acc ^ flash_page_exp[e]);
+                acc = (flash_page_gf_t)(acc ^ FLASH_PAGE_EXP(e));
             }
             e += j;
             if (e >= FLASH_PAGE_ORDER) {
@@ -2598,6 +2637,7 @@ static unsigned flash_page_roots(const flash_page_gf_t c[FLASH_PAGE_T + 1u], uns
     uint32_t u;
     uint32_t blen;
     uint32_t e;
+    uint32_t lg;
     unsigned degree = length;
     unsigned terms = 0;
     unsigned slots = 0;
@@ -2613,7 +2653,7 @@ static unsigned flash_page_roots(const flash_page_gf_t c[FLASH_PAGE_T + 1u], uns
         top = next - 1u;
         if (degree == 1u) {
             /* q(x) = 1 + q1 x has its root at alpha^-p with alpha^p = q1: found if p is still to search */
-            e = flash_page_log[q[1]];
+            e = FLASH_PAGE_LOG(q[1]);
             if (e <= top) {
                 where[found] = (flash_page_pos_t)e;
                 found++;
@@ -2626,9 +2666,9 @@ static unsigned flash_page_roots(const flash_page_gf_t c[FLASH_PAGE_T + 1u], uns
             terms = 0;
             for (i = 1; i <= degree; i++) {
                 if (q[i] != 0u) {
-                    e = ((uint32_t)i * top) % FLASH_PAGE_ORDER;
-                    expo[terms] = flash_page_log[q[i]] >= e ? flash_page_log[q[i]] - e
-                                                       : flash_page_log[q[i]] + FLASH_PAGE_ORDER - e;
+                    e = flash_page_mod_order((uint32_t)i * top);
+                    lg = FLASH_PAGE_LOG(q[i]);
+                    expo[terms] = lg >= e ? lg - e : lg + FLASH_PAGE_ORDER - e;
                     power[terms] = i;
                     terms++;
                 }
@@ -2653,7 +2693,8 @@ static unsigned flash_page_roots(const flash_page_gf_t c[FLASH_PAGE_T + 1u], uns
             e2 = expo[k + 2u];
             e3 = expo[k + 3u];
             for (u = 0; u < blen; u++) {
-                acc[u] = (flash_page_gf_t)(acc[u] ^ flash_page_exp[e0] ^ flash_page_exp[e1] ^ flash_page_exp[e2] ^ flash_page_exp[e3]);
+                acc[u] = (flash_page_gf_t)(acc[u] ^ FLASH_PAGE_EXP(e0) ^ FLASH_PAGE_EXP(e1) ^ FLASH_PAGE_EXP(e2)
+                                         ^ FLASH_PAGE_EXP(e3));
                 e0 += power[k];
                 e1 += power[k + 1u];
                 e2 += power[k + 2u];
@@ -2673,7 +2714,7 @@ static unsigned flash_page_roots(const flash_page_gf_t c[FLASH_PAGE_T + 1u], uns
                 where[found] = (flash_page_pos_t)e;
                 found++;
                 for (i = 1; i < degree; i++) {
-                    q[i] = (flash_page_gf_t)(q[i] ^ flash_page_mul(flash_page_exp[e], q[i - 1u]));
+                    q[i] = (flash_page_gf_t)(q[i] ^ flash_page_mul(FLASH_PAGE_EXP(e), q[i - 1u]));
                 }
                 q[degree] = 0;
                 degree--;

@@ -5,9 +5,27 @@
  */
 #include "mem_word.h"
 
-/* Placement of the constant tables; define MEM_WORD_TABLE_ATTR (e.g. a section attribute) to override. */
+/* Tables are placed by MEM_WORD_TABLE_ATTR and read only through MEM_WORD_TABLE_READ8/16/32/64(table, index).
+ * Override the attribute and all four reads together (-D...): an attribute alone is refused, as plain
+ * loads would then read the wrong memory on a part with separate program memory. */
+#if defined(MEM_WORD_TABLE_ATTR) && !(defined(MEM_WORD_TABLE_READ8) && defined(MEM_WORD_TABLE_READ16) \
+    && defined(MEM_WORD_TABLE_READ32) && defined(MEM_WORD_TABLE_READ64))
+#error "MEM_WORD_TABLE_ATTR is defined without MEM_WORD_TABLE_READ8/16/32/64: define the reads that match the placement"
+#endif
 #ifndef MEM_WORD_TABLE_ATTR
 #define MEM_WORD_TABLE_ATTR __attribute__((section(".rodata.ecc")))
+#endif
+#ifndef MEM_WORD_TABLE_READ8
+#define MEM_WORD_TABLE_READ8(table, index)  ((table)[index])
+#endif
+#ifndef MEM_WORD_TABLE_READ16
+#define MEM_WORD_TABLE_READ16(table, index) ((table)[index])
+#endif
+#ifndef MEM_WORD_TABLE_READ32
+#define MEM_WORD_TABLE_READ32(table, index) ((table)[index])
+#endif
+#ifndef MEM_WORD_TABLE_READ64
+#define MEM_WORD_TABLE_READ64(table, index) ((table)[index])
 #endif
 
 #define MEM_WORD_PARITY_PAD  0u
@@ -304,7 +322,7 @@ static mem_word_col_t mem_word_data_checks(const uint8_t *data)
     size_t b;
 
     for (b = 0; b < MEM_WORD_DATA_BYTES; b++) {
-        acc = (mem_word_col_t)(acc ^ mem_word_bytes[b * 256u + data[b]]);
+        acc = (mem_word_col_t)(acc ^ MEM_WORD_TABLE_READ8(mem_word_bytes, b * 256u + data[b]));
     }
     return acc;
 }
@@ -346,7 +364,7 @@ static unsigned mem_word_odd(mem_word_col_t s)
 /* Position of the single error with syndrome s (0 < s), or MEM_WORD_N when there is none. */
 static size_t mem_word_locate(mem_word_col_t s)
 {
-    unsigned v = mem_word_position[s];
+    unsigned v = MEM_WORD_TABLE_READ8(mem_word_position, s);
 
     return v == 0u ? MEM_WORD_N : (size_t)(v - 1u);
 }

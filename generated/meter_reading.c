@@ -5,9 +5,27 @@
  */
 #include "meter_reading.h"
 
-/* Placement of the constant tables; define METER_READING_TABLE_ATTR (e.g. a section attribute) to override. */
+/* Tables are placed by METER_READING_TABLE_ATTR and read only through METER_READING_TABLE_READ8/16/32/64(table, index).
+ * Override the attribute and all four reads together (-D...): an attribute alone is refused, as plain
+ * loads would then read the wrong memory on a part with separate program memory. */
+#if defined(METER_READING_TABLE_ATTR) && !(defined(METER_READING_TABLE_READ8) && defined(METER_READING_TABLE_READ16) \
+    && defined(METER_READING_TABLE_READ32) && defined(METER_READING_TABLE_READ64))
+#error "METER_READING_TABLE_ATTR is defined without METER_READING_TABLE_READ8/16/32/64: define the reads that match the placement"
+#endif
 #ifndef METER_READING_TABLE_ATTR
 #define METER_READING_TABLE_ATTR
+#endif
+#ifndef METER_READING_TABLE_READ8
+#define METER_READING_TABLE_READ8(table, index)  ((table)[index])
+#endif
+#ifndef METER_READING_TABLE_READ16
+#define METER_READING_TABLE_READ16(table, index) ((table)[index])
+#endif
+#ifndef METER_READING_TABLE_READ32
+#define METER_READING_TABLE_READ32(table, index) ((table)[index])
+#endif
+#ifndef METER_READING_TABLE_READ64
+#define METER_READING_TABLE_READ64(table, index) ((table)[index])
 #endif
 
 typedef uint8_t meter_reading_gf_t;      /* an element of GF(2^8), polynomial basis */
@@ -129,6 +147,9 @@ METER_READING_TABLE_ATTR static const meter_reading_gf_t meter_reading_log[256] 
     0xCCu, 0x11u, 0xFCu, 0x40u, 0x94u, 0x56u, 0xBAu, 0xABu
 };
 
+#define METER_READING_EXP(i) METER_READING_TABLE_READ8(meter_reading_exp, i)
+#define METER_READING_LOG(x) METER_READING_TABLE_READ8(meter_reading_log, x)
+
 /* -- remainder of (message * x^r) mod g(x) ------------------------------------------------------------ */
 
 /* reg = (message * x^r) mod g(x), left-aligned, for the data bits of data[0..data_len). */
@@ -136,13 +157,13 @@ static void meter_reading_remainder(const uint8_t *data, size_t data_len, meter_
 {
     size_t i;
     meter_reading_word_t r0 = 0;
-    const meter_reading_word_t *row;
+    size_t row;
 
     for (i = 0; i < data_len; i++) {
-        row = &meter_reading_rem_table[(size_t)((unsigned)(r0 >> 28) ^ ((unsigned)data[i] >> 4)) * METER_READING_WORDS];
-        r0 = (meter_reading_word_t)(((r0 << 4)) ^ row[0]);
-        row = &meter_reading_rem_table[(size_t)((unsigned)(r0 >> 28) ^ ((unsigned)data[i] & 0x0Fu)) * METER_READING_WORDS];
-        r0 = (meter_reading_word_t)(((r0 << 4)) ^ row[0]);
+        row = (size_t)((unsigned)(r0 >> 28) ^ ((unsigned)data[i] >> 4)) * METER_READING_WORDS;
+        r0 = (meter_reading_word_t)(((r0 << 4)) ^ METER_READING_TABLE_READ32(meter_reading_rem_table, row + 0u));
+        row = (size_t)((unsigned)(r0 >> 28) ^ ((unsigned)data[i] & 0x0Fu)) * METER_READING_WORDS;
+        r0 = (meter_reading_word_t)(((r0 << 4)) ^ METER_READING_TABLE_READ32(meter_reading_rem_table, row + 0u));
     }
     reg[0] = r0;
 }
@@ -171,6 +192,15 @@ static int meter_reading_fold(meter_reading_word_t reg[METER_READING_WORDS], con
 
 /* -- GF(2^8) arithmetic ------------------------------------------------------------------------------ */
 
+/* x mod 2^m - 1 without a division: 2^m = 1 there, so the high bits fold onto the low ones. */
+static uint32_t meter_reading_mod_order(uint32_t x)
+{
+    while ((x >> METER_READING_M) != 0u) {
+        x = (x & METER_READING_ORDER) + (x >> METER_READING_M);
+    }
+    return x >= METER_READING_ORDER ? x - METER_READING_ORDER : x;
+}
+
 static meter_reading_gf_t meter_reading_mul(meter_reading_gf_t a, meter_reading_gf_t b)
 {
     uint32_t e;
@@ -178,11 +208,11 @@ static meter_reading_gf_t meter_reading_mul(meter_reading_gf_t a, meter_reading_
     if (a == 0u || b == 0u) {
         return 0;
     }
-    e = (uint32_t)meter_reading_log[a] + meter_reading_log[b];
+    e = (uint32_t)METER_READING_LOG(a) + METER_READING_LOG(b);
     if (e >= METER_READING_ORDER) {
         e -= METER_READING_ORDER;
     }
-    return meter_reading_exp[e];
+    return METER_READING_EXP(e);
 }
 
 /* a / b for b != 0. */
@@ -193,11 +223,11 @@ static meter_reading_gf_t meter_reading_div(meter_reading_gf_t a, meter_reading_
     if (a == 0u) {
         return 0;
     }
-    e = (uint32_t)meter_reading_log[a] + METER_READING_ORDER - meter_reading_log[b];
+    e = (uint32_t)METER_READING_LOG(a) + METER_READING_ORDER - METER_READING_LOG(b);
     if (e >= METER_READING_ORDER) {
         e -= METER_READING_ORDER;
     }
-    return meter_reading_exp[e];
+    return METER_READING_EXP(e);
 }
 
 /* -- decoding ----------------------------------------------------------------------------------------- */
@@ -221,7 +251,7 @@ static void meter_reading_syndromes(const meter_reading_word_t reg[METER_READING
         e = 0;
         for (q = METER_READING_RBITS; q > 0u; q--) {
             if (((reg[(q - 1u) >> 5] >> (31u - ((q - 1u) & 31u))) & 1u) != 0u) {
-                acc = (meter_reading_gf_t)(acc ^ meter_reading_exp[e]);
+                acc = (meter_reading_gf_t)(acc ^ METER_READING_EXP(e));
             }
             e += j;
             if (e >= METER_READING_ORDER) {
@@ -316,6 +346,7 @@ static unsigned meter_reading_roots(const meter_reading_gf_t c[METER_READING_T +
     uint32_t u;
     uint32_t blen;
     uint32_t e;
+    uint32_t lg;
     unsigned degree = length;
     unsigned terms = 0;
     unsigned slots = 0;
@@ -331,7 +362,7 @@ static unsigned meter_reading_roots(const meter_reading_gf_t c[METER_READING_T +
         top = next - 1u;
         if (degree == 1u) {
             /* q(x) = 1 + q1 x has its root at alpha^-p with alpha^p = q1: found if p is still to search */
-            e = meter_reading_log[q[1]];
+            e = METER_READING_LOG(q[1]);
             if (e <= top) {
                 where[found] = (meter_reading_pos_t)e;
                 found++;
@@ -344,9 +375,9 @@ static unsigned meter_reading_roots(const meter_reading_gf_t c[METER_READING_T +
             terms = 0;
             for (i = 1; i <= degree; i++) {
                 if (q[i] != 0u) {
-                    e = ((uint32_t)i * top) % METER_READING_ORDER;
-                    expo[terms] = meter_reading_log[q[i]] >= e ? meter_reading_log[q[i]] - e
-                                                       : meter_reading_log[q[i]] + METER_READING_ORDER - e;
+                    e = meter_reading_mod_order((uint32_t)i * top);
+                    lg = METER_READING_LOG(q[i]);
+                    expo[terms] = lg >= e ? lg - e : lg + METER_READING_ORDER - e;
                     power[terms] = i;
                     terms++;
                 }
@@ -371,7 +402,8 @@ static unsigned meter_reading_roots(const meter_reading_gf_t c[METER_READING_T +
             e2 = expo[k + 2u];
             e3 = expo[k + 3u];
             for (u = 0; u < blen; u++) {
-                acc[u] = (meter_reading_gf_t)(acc[u] ^ meter_reading_exp[e0] ^ meter_reading_exp[e1] ^ meter_reading_exp[e2] ^ meter_reading_exp[e3]);
+                acc[u] = (meter_reading_gf_t)(acc[u] ^ METER_READING_EXP(e0) ^ METER_READING_EXP(e1) ^ METER_READING_EXP(e2)
+                                         ^ METER_READING_EXP(e3));
                 e0 += power[k];
                 e1 += power[k + 1u];
                 e2 += power[k + 2u];
@@ -391,7 +423,7 @@ static unsigned meter_reading_roots(const meter_reading_gf_t c[METER_READING_T +
                 where[found] = (meter_reading_pos_t)e;
                 found++;
                 for (i = 1; i < degree; i++) {
-                    q[i] = (meter_reading_gf_t)(q[i] ^ meter_reading_mul(meter_reading_exp[e], q[i - 1u]));
+                    q[i] = (meter_reading_gf_t)(q[i] ^ meter_reading_mul(METER_READING_EXP(e), q[i - 1u]));
                 }
                 q[degree] = 0;
                 degree--;

@@ -5,9 +5,27 @@
  */
 #include "soil_probe.h"
 
-/* Placement of the constant tables; define SOIL_PROBE_TABLE_ATTR (e.g. a section attribute) to override. */
+/* Tables are placed by SOIL_PROBE_TABLE_ATTR and read only through SOIL_PROBE_TABLE_READ8/16/32/64(table, index).
+ * Override the attribute and all four reads together (-D...): an attribute alone is refused, as plain
+ * loads would then read the wrong memory on a part with separate program memory. */
+#if defined(SOIL_PROBE_TABLE_ATTR) && !(defined(SOIL_PROBE_TABLE_READ8) && defined(SOIL_PROBE_TABLE_READ16) \
+    && defined(SOIL_PROBE_TABLE_READ32) && defined(SOIL_PROBE_TABLE_READ64))
+#error "SOIL_PROBE_TABLE_ATTR is defined without SOIL_PROBE_TABLE_READ8/16/32/64: define the reads that match the placement"
+#endif
 #ifndef SOIL_PROBE_TABLE_ATTR
 #define SOIL_PROBE_TABLE_ATTR
+#endif
+#ifndef SOIL_PROBE_TABLE_READ8
+#define SOIL_PROBE_TABLE_READ8(table, index)  ((table)[index])
+#endif
+#ifndef SOIL_PROBE_TABLE_READ16
+#define SOIL_PROBE_TABLE_READ16(table, index) ((table)[index])
+#endif
+#ifndef SOIL_PROBE_TABLE_READ32
+#define SOIL_PROBE_TABLE_READ32(table, index) ((table)[index])
+#endif
+#ifndef SOIL_PROBE_TABLE_READ64
+#define SOIL_PROBE_TABLE_READ64(table, index) ((table)[index])
 #endif
 
 typedef soil_probe_crc_value_t soil_probe_reg_t;
@@ -53,6 +71,7 @@ SOIL_PROBE_TABLE_ATTR static const soil_probe_reg_t soil_probe_table[256] = {
     0xF78Fu, 0xE606u, 0xD49Du, 0xC514u, 0xB1ABu, 0xA022u, 0x92B9u, 0x8330u,
     0x7BC7u, 0x6A4Eu, 0x58D5u, 0x495Cu, 0x3DE3u, 0x2C6Au, 0x1EF1u, 0x0F78u
 };
+#define SOIL_PROBE_ENTRY(i) SOIL_PROBE_TABLE_READ16(soil_probe_table, i)
 
 soil_probe_crc_value_t soil_probe_crc_start(void)
 {
@@ -68,7 +87,7 @@ soil_probe_crc_value_t soil_probe_crc_add(soil_probe_crc_value_t state, const ui
         return state;
     }
     for (i = 0; i < len; i++) {
-        reg = (soil_probe_reg_t)(soil_probe_table[(reg ^ data[i]) & 0xFFu] ^ (reg >> 8));
+        reg = (soil_probe_reg_t)(SOIL_PROBE_ENTRY((reg ^ data[i]) & 0xFFu) ^ (reg >> 8));
     }
     return reg;
 }

@@ -64,19 +64,11 @@ def test_stated_table_bytes_are_the_tables(path, profile):
     model = build(specmod.load(path).with_profile(profile))
     name = model.spec.name
     files = emit.render(model)
-    source = files[f"{name}.c"]
-    declared = re.findall(r"static const (\w+) (\w+)\[(\d+)\]", source)
-    typedefs = {new: old for old, new in re.findall(r"typedef (\w+) (\w+);", source + files[f"{name}.h"])}
-
-    def bytes_of(ctype: str) -> int:
-        while ctype in typedefs:
-            ctype = typedefs[ctype]
-        return int(re.fullmatch(r"uint(\d+)_t", ctype).group(1)) // 8
-
-    size = sum(int(n) * bytes_of(t) for t, _, n in declared)
+    declared = emit.tables(files)
+    size = sum(declared.values())
     stated = int(re.search(rf"#define {name.upper()}_TABLE_BYTES\s+(\d+)u", files[f"{name}.h"]).group(1))
     assert stated == size == model.properties.table_bytes
-    assert source.count(f"{name.upper()}_TABLE_ATTR static const") == len(declared)
+    assert files[f"{name}.c"].count(f"{name.upper()}_TABLE_ATTR static const") == len(declared)
 
 
 @pytest.mark.parametrize("path", EXAMPLES, ids=[p.stem for p in EXAMPLES])

@@ -9,7 +9,7 @@ from abc import ABC, abstractmethod
 from collections.abc import Sequence
 from dataclasses import dataclass
 
-from ..spec import Spec
+from ..spec import PROFILES, Spec
 
 OK = 0
 ERR_UNCORRECTABLE = -1
@@ -19,6 +19,9 @@ ERR_ARG = -3
 # Stated stack bound: per call level (return address, saved registers, scalar locals) plus local arrays.
 # tests/test_header_figures.py holds it against gcc -fcallgraph-info=su on the host.
 FRAME_BYTES = 96
+
+# Largest array a 16-bit target holds (PTRDIFF_MAX there); tables beyond it get an #error for such targets.
+ARRAY_BYTES_16BIT = 32767
 
 
 @dataclass(frozen=True)
@@ -106,6 +109,7 @@ class CodeModel(ABC):
             "NAME": self.spec.name.upper(),
             "profile": self.spec.profile,
             "table_attr": self.spec.table_attr,
+            "table_space": self.spec.table_space,
             "data_bytes": p.data_bytes,
             "parity_bytes": p.parity_bytes,
             "correctable": p.t,
@@ -116,8 +120,22 @@ class CodeModel(ABC):
             "d": p.d,
             "unit": "bit" if p.unit_bits == 1 else "symbol",
         }
+        if p.table_bytes > ARRAY_BYTES_16BIT:
+            fit, fit_bytes = self.profile_for_16bit()
+            ctx.update(tables_over_16bit=True,
+                       table_fix=f'generate with [c] profile = \\"{fit}\\" ({fit_bytes} table bytes)')
+        else:
+            ctx.update(tables_over_16bit=False)
         ctx.update(self.family_context())
         return ctx
+
+    def profile_for_16bit(self) -> tuple[str, int]:
+        """(profile, its table bytes): the first profile whose tables together fit one 16-bit array, so every
+        one of its arrays fits a 16-bit target; tiny (the last) holds a few KiB at most."""
+        for profile in PROFILES:
+            other = type(self)(self.spec.with_profile(profile)).properties.table_bytes
+            if other <= ARRAY_BYTES_16BIT or profile == PROFILES[-1]:
+                return profile, other
 
 
 def ctype_for(max_value: int) -> str:

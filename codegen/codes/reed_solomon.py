@@ -88,7 +88,7 @@ class ReedSolomon(CodeModel):
     def properties(self) -> Properties:
         return Properties(n=self.n, k=self.k, t=self.t, d=self.nroots + 1, unit_bits=SYMBOL_BITS,
                           data_bytes=self.k, parity_bytes=self.nroots,
-                          table_bytes=sum(len(v) * (8 if name == "gen_mul" else 1)
+                          table_bytes=sum(len(v) * (4 if name == "gen_mul" else 1)
                                           for name, v in self.c_tables().items()))
 
     def data_lengths(self) -> range:
@@ -278,12 +278,12 @@ class ReedSolomon(CodeModel):
             return {"gen": self.generator[1:]}
         tables = {}
         if prof == "fast":
-            # row f: f * g_1 .. f * g_(n-k), the LFSR update for feedback symbol f, packed into 64-bit
+            # row f: f * g_1 .. f * g_(n-k), the LFSR update for feedback symbol f, packed into 32-bit
             # words, first symbol in the top byte, zero-padded at the end
             words = []
             for f in range(256):
-                row = bytes(self._mul(f, g) for g in self.generator[1:]) + bytes(8 * self.words - self.nroots)
-                words.extend(int.from_bytes(row[i:i + 8], "big") for i in range(0, len(row), 8))
+                row = bytes(self._mul(f, g) for g in self.generator[1:]) + bytes(4 * self.words - self.nroots)
+                words.extend(int.from_bytes(row[i:i + 4], "big") for i in range(0, len(row), 4))
             tables["gen_mul"] = words
             tables["exp"] = self._exp[:2 * ORDER]
         else:
@@ -311,7 +311,7 @@ class ReedSolomon(CodeModel):
         r = self.nroots
         correct = 5 * r + (r + 1)                      # rem, synd, where, odd_part, value; lam
         callees = [
-            8 * self.words if self.spec.profile == "fast" else 0,   # remainder(): register words
+            4 * self.words if self.spec.profile == "fast" else 0,   # remainder(): register words
             r + 1,                                                  # berlekamp(): b
             4 * self.half_roots if self.spec.profile == "tiny" else 10 * r + 4,  # chien(): terms, steps
             r,                                                      # forney(): omega
@@ -320,8 +320,8 @@ class ReedSolomon(CodeModel):
 
     @property
     def words(self) -> int:
-        """64-bit words of the fast encoder's register."""
-        return (self.nroots + 7) // 8
+        """32-bit words of the fast encoder's register."""
+        return (self.nroots + 3) // 4
 
     @property
     def half_roots(self) -> int:
