@@ -99,7 +99,7 @@ def compiles_strictly(name: str, files: dict[str, str]) -> None:
     stamp.touch()
 
 
-@bounded(36)
+@bounded(24)
 @given(valid_specs())
 def test_every_accepted_spec_compiles_strictly(text):
     try:

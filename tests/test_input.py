@@ -199,15 +199,19 @@ def test_compile_error_names_compiler_flags_and_first_error(tmp_path):
     assert "undeclared" in summary and "error" in summary
 
 
-def test_truncated_cached_module_is_rebuilt(tmp_path):
+def test_truncated_cached_module_is_rebuilt(tmp_path, monkeypatch):
     """A damaged cache entry (here: a .so cut short) is built again, not a traceback."""
+    from codegen import spec as specmod
+    from codegen.codes import build
+    from conftest import compile_model
+    monkeypatch.setenv("BITMEND_CACHE", str(tmp_path / "cache"))
     spec = tmp_path / "word.toml"
     spec.write_text(HAMMING.format(bits=16))
-    env = dict(os.environ, BITMEND_CACHE=str(tmp_path / "cache"))
-    cmd = [sys.executable, "-m", "codegen.cli", "verify", str(spec), "--budget", "5"]
-    assert subprocess.run(cmd, env=env, capture_output=True).returncode == 0
+    compile_model(build(specmod.load(spec)))                    # fills the cache
     [so] = list((tmp_path / "cache").glob("cffi/*/*.so"))
-    so.write_bytes(so.read_bytes()[:100])
-    res = subprocess.run(cmd, env=env, capture_output=True, text=True)
+    so.unlink()                                                 # a new inode: this process keeps its copy
+    so.write_bytes(b"\x7fELF" + bytes(96))
+    cmd = [sys.executable, "-m", "codegen.cli", "verify", str(spec), "--budget", "5"]
+    res = subprocess.run(cmd, capture_output=True, text=True)
     assert res.returncode == 0 and "Traceback" not in res.stderr and "OK" in res.stdout
     assert so.stat().st_size > 100

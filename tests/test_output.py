@@ -5,6 +5,7 @@ from __future__ import annotations
 
 import os
 import shutil
+import signal
 import subprocess
 import sys
 import threading
@@ -106,22 +107,19 @@ def test_interrupt_before_the_renames_changes_nothing(tmp_path, capsys, monkeypa
 
 
 def test_sigint_in_a_real_run_exits_130_with_one_line(tmp_path):
-    """A real SIGINT while the process is at work (a big BCH build keeps it busy for a moment)."""
-    spec = tmp_path / "page.toml"
-    spec.write_text('[code]\nname = "page"\nfamily = "bch"\n[bch]\nm = 16\nt = 60\n')
-    proc = subprocess.Popen([sys.executable, "-m", "codegen.cli", "generate", str(spec), "-o", str(tmp_path / "o")],
+    """A real SIGINT once verify has announced its work: exit 130, one line, the JSON not written."""
+    from conftest import EXAMPLES
+    flash = next(p for p in EXAMPLES if p.stem == "flash_page")
+    proc = subprocess.Popen([sys.executable, "-m", "codegen.cli", "verify", str(flash), "--json", str(tmp_path / "v.json")],
                             stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True)
     try:
-        import time
-        time.sleep(1.5)
-        proc.send_signal(2)
-        out, err = proc.communicate(timeout=60)
+        assert "cases" in proc.stdout.readline()
+        proc.send_signal(signal.SIGINT)
+        _, err = proc.communicate(timeout=120)
     finally:
         proc.kill()
-    if proc.returncode == 0:
-        pytest.skip("the run finished before the signal arrived")
     assert proc.returncode == 130 and err == "bitmend: interrupted\n"
-    assert not (tmp_path / "o").exists() or not any((tmp_path / "o").iterdir())
+    assert list(tmp_path.iterdir()) == []
 
 
 # -- concurrency and permissions ---------------------------------------------------------------------------
