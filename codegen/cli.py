@@ -154,9 +154,8 @@ def _bytes_in(path: str) -> bytes:
 
 
 def _bytes_out(outputs: dict[str, bytes]) -> None:
-    """Binary outputs, all or nothing ("-" is stdout); emit's text carries the bytes through surrogateescape."""
-    emit.commit([emit.Output(Path(p), d.decode("utf-8", "surrogateescape")) for p, d in outputs.items()
-                 if p != STDOUT])
+    """Binary outputs, all or nothing ("-" is stdout)."""
+    emit.commit([emit.Output(Path(p), d) for p, d in outputs.items() if p != STDOUT])
     if STDOUT in outputs:
         sys.stdout.flush()
         sys.stdout.buffer.write(outputs[STDOUT])

@@ -45,11 +45,13 @@ def environment() -> jinja2.Environment:
 @dataclass(frozen=True)
 class Output:
     path: Path
-    text: str
+    text: str | bytes                   # bytes are written as they are (a plot, an encoded file)
     sources: tuple[Path, ...] = ()      # what the text was made from: spec, templates, version stamp
 
     @property
     def data(self) -> bytes:
+        if isinstance(self.text, bytes):
+            return self.text
         # surrogateescape: a non-UTF-8 file name inside a depfile goes out as the bytes it came in as
         return self.text.encode("utf-8", "surrogateescape")
 
@@ -279,7 +281,7 @@ def commit(outputs: list[Output]) -> list[Path]:
         raise
 
 
-def write_atomic(path, text: str) -> None:
+def write_atomic(path, text: str | bytes) -> None:
     """One file through `commit`."""
     commit([Output(Path(path), text)])
 

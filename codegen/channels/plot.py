@@ -6,6 +6,8 @@ from __future__ import annotations
 import io
 from pathlib import Path
 
+from .. import emit
+
 FORMATS = {".png": "png", ".svg": "svg"}
 
 
@@ -95,9 +97,4 @@ def write(path: str | Path, data: dict) -> None:
     fmt = format_for(path)
     if fmt is None:
         raise ValueError(f"plot file must end in .png or .svg (got {Path(path).name})")
-    out = render(data, fmt)
-    path = Path(path)
-    path.parent.mkdir(parents=True, exist_ok=True)
-    tmp = path.with_name(f".{path.name}.tmp")
-    tmp.write_bytes(out)
-    tmp.replace(path)
+    emit.write_atomic(path, render(data, fmt))          # all or nothing, like every other output
