@@ -174,3 +174,55 @@ int cal_word_check(const uint8_t *data, size_t data_len, const uint8_t *parity)
     }
     return cal_word_data_checks(data) != cal_word_read_checks(parity) ? 1 : 0;
 }
+
+/* -- word API ------------------------------------------------------------------------------------------ */
+
+#define CAL_WORD_CHECK_MASK  0x7Fu
+
+/* The word as the data bytes of the byte API: big-endian, data bit 0 first. */
+static void cal_word_word_bytes(cal_word_word_t word, uint8_t *data)
+{
+    cal_word_word_t aligned = (cal_word_word_t)((uint32_t)word << 0u);
+    size_t b;
+
+    for (b = 0; b < CAL_WORD_DATA_BYTES; b++) {
+        data[b] = (uint8_t)(aligned >> (8u * (CAL_WORD_DATA_BYTES - 1u - b)));
+    }
+}
+
+uint8_t cal_word_encode_word(cal_word_word_t word)
+{
+    uint8_t data[CAL_WORD_DATA_BYTES];
+
+    cal_word_word_bytes(word, data);
+    return (uint8_t)cal_word_data_checks(data);
+}
+
+int cal_word_decode_word(cal_word_word_t *word, uint8_t *checks)
+{
+    uint8_t data[CAL_WORD_DATA_BYTES];
+    cal_word_col_t s;
+    size_t pos;
+
+    if (word == NULL || checks == NULL) {
+        return CAL_WORD_ERR_ARG;
+    }
+    cal_word_word_bytes(*word, data);
+    s = (cal_word_col_t)((cal_word_data_checks(data) ^ *checks) & CAL_WORD_CHECK_MASK);
+    if (s == 0u) {
+        return 0;
+    }
+    if (!cal_word_odd(s)) {
+        return CAL_WORD_ERR_UNCORRECTABLE;            /* even weight: a double error */
+    }
+    pos = cal_word_locate(s);
+    if (pos >= CAL_WORD_N) {
+        return CAL_WORD_ERR_UNCORRECTABLE;
+    }
+    if (pos < CAL_WORD_DATA_BITS) {
+        *word = (cal_word_word_t)(*word ^ ((uint32_t)1u << (CAL_WORD_DATA_BITS - 1u - pos)));
+    } else {
+        *checks = (uint8_t)(*checks ^ (1u << (CAL_WORD_PARITY_BITS - 1u - (pos - CAL_WORD_DATA_BITS))));
+    }
+    return 1;
+}

@@ -32,7 +32,7 @@ extern "C" {
 #define CAL_WORD_PARITY_BYTES      1u           /* check bytes for the largest block */
 #define CAL_WORD_CORRECTABLE       1            /* = _T, as an int like _decode's return */
 #define CAL_WORD_TABLE_BYTES       128u         /* constant table bytes in the .c */
-#define CAL_WORD_STACK_BYTES       288u         /* worst-case stack bound, bytes */
+#define CAL_WORD_STACK_BYTES       292u         /* worst-case stack bound, bytes */
 #define CAL_WORD_ERR_UNCORRECTABLE (-1)         /* errors found that the code cannot correct */
 #define CAL_WORD_ERR_LENGTH        (-2)         /* a data_len the code does not take */
 #define CAL_WORD_ERR_ARG           (-3)         /* a NULL buffer or an invalid argument */
@@ -46,6 +46,17 @@ int cal_word_encode(const uint8_t *data, size_t data_len, uint8_t *parity);
 int cal_word_decode(uint8_t *data, size_t data_len, uint8_t *parity);
 /* 0 when data || parity is a codeword, 1 when it holds errors, or a negative _ERR_ code. */
 int cal_word_check(const uint8_t *data, size_t data_len, const uint8_t *parity);
+
+/* Word API, for RAM and EEPROM words: the same code as _encode / _decode on integers.  The word holds the
+ * 32 data bits right-aligned, data bit 0 its most significant (the data bytes read big-endian);
+ * the check bits are right-aligned in a byte the same way (the parity bytes read big-endian, padding dropped).
+ * Bits above the data bits and above the check bits are ignored and never changed. */
+typedef uint32_t cal_word_word_t;
+/* The 7 check bits of a data word. */
+uint8_t cal_word_encode_word(cal_word_word_t word);
+/* Corrects *word and *checks in place: 0 when clean, 1 after correcting one bit, _ERR_UNCORRECTABLE with
+ * both unchanged, _ERR_ARG for a NULL pointer. */
+int cal_word_decode_word(cal_word_word_t *word, uint8_t *checks);
 
 #ifdef __cplusplus
 }

@@ -422,3 +422,55 @@ int mem_word_check(const uint8_t *data, size_t data_len, const uint8_t *parity)
     }
     return mem_word_data_checks(data) != mem_word_read_checks(parity) ? 1 : 0;
 }
+
+/* -- word API ------------------------------------------------------------------------------------------ */
+
+#define MEM_WORD_CHECK_MASK  0xFFu
+
+/* The word as the data bytes of the byte API: big-endian, data bit 0 first. */
+static void mem_word_word_bytes(mem_word_word_t word, uint8_t *data)
+{
+    mem_word_word_t aligned = (mem_word_word_t)((uint64_t)word << 0u);
+    size_t b;
+
+    for (b = 0; b < MEM_WORD_DATA_BYTES; b++) {
+        data[b] = (uint8_t)(aligned >> (8u * (MEM_WORD_DATA_BYTES - 1u - b)));
+    }
+}
+
+uint8_t mem_word_encode_word(mem_word_word_t word)
+{
+    uint8_t data[MEM_WORD_DATA_BYTES];
+
+    mem_word_word_bytes(word, data);
+    return (uint8_t)mem_word_data_checks(data);
+}
+
+int mem_word_decode_word(mem_word_word_t *word, uint8_t *checks)
+{
+    uint8_t data[MEM_WORD_DATA_BYTES];
+    mem_word_col_t s;
+    size_t pos;
+
+    if (word == NULL || checks == NULL) {
+        return MEM_WORD_ERR_ARG;
+    }
+    mem_word_word_bytes(*word, data);
+    s = (mem_word_col_t)((mem_word_data_checks(data) ^ *checks) & MEM_WORD_CHECK_MASK);
+    if (s == 0u) {
+        return 0;
+    }
+    if (!mem_word_odd(s)) {
+        return MEM_WORD_ERR_UNCORRECTABLE;            /* even weight: a double error */
+    }
+    pos = mem_word_locate(s);
+    if (pos >= MEM_WORD_N) {
+        return MEM_WORD_ERR_UNCORRECTABLE;
+    }
+    if (pos < MEM_WORD_DATA_BITS) {
+        *word = (mem_word_word_t)(*word ^ ((uint64_t)1u << (MEM_WORD_DATA_BITS - 1u - pos)));
+    } else {
+        *checks = (uint8_t)(*checks ^ (1u << (MEM_WORD_PARITY_BITS - 1u - (pos - MEM_WORD_DATA_BITS))));
+    }
+    return 1;
+}

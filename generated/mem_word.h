@@ -31,7 +31,7 @@ extern "C" {
 #define MEM_WORD_PARITY_BYTES      1u           /* check bytes for the largest block */
 #define MEM_WORD_CORRECTABLE       1            /* = _T, as an int like _decode's return */
 #define MEM_WORD_TABLE_BYTES       2304u        /* constant table bytes in the .c */
-#define MEM_WORD_STACK_BYTES       288u         /* worst-case stack bound, bytes */
+#define MEM_WORD_STACK_BYTES       296u         /* worst-case stack bound, bytes */
 #define MEM_WORD_ERR_UNCORRECTABLE (-1)         /* errors found that the code cannot correct */
 #define MEM_WORD_ERR_LENGTH        (-2)         /* a data_len the code does not take */
 #define MEM_WORD_ERR_ARG           (-3)         /* a NULL buffer or an invalid argument */
@@ -45,6 +45,17 @@ int mem_word_encode(const uint8_t *data, size_t data_len, uint8_t *parity);
 int mem_word_decode(uint8_t *data, size_t data_len, uint8_t *parity);
 /* 0 when data || parity is a codeword, 1 when it holds errors, or a negative _ERR_ code. */
 int mem_word_check(const uint8_t *data, size_t data_len, const uint8_t *parity);
+
+/* Word API, for RAM and EEPROM words: the same code as _encode / _decode on integers.  The word holds the
+ * 64 data bits right-aligned, data bit 0 its most significant (the data bytes read big-endian);
+ * the check bits are right-aligned in a byte the same way (the parity bytes read big-endian).
+ * Bits above the data bits and above the check bits are ignored and never changed. */
+typedef uint64_t mem_word_word_t;
+/* The 8 check bits of a data word. */
+uint8_t mem_word_encode_word(mem_word_word_t word);
+/* Corrects *word and *checks in place: 0 when clean, 1 after correcting one bit, _ERR_UNCORRECTABLE with
+ * both unchanged, _ERR_ARG for a NULL pointer. */
+int mem_word_decode_word(mem_word_word_t *word, uint8_t *checks);
 
 #ifdef __cplusplus
 }

@@ -66,6 +66,9 @@ class Hamming(CodeModel):
     template = "hamming"
     call_depth = 3                 # decode > syndrome > table lookups
 
+    def stack_array_bytes(self) -> int:
+        return self.data_bytes if self.word_api else 0      # decode_word's copy of the word as bytes
+
     def __init__(self, spec: Spec):
         super().__init__(spec)
         h = spec.table("hamming")
@@ -177,6 +180,7 @@ class Hamming(CodeModel):
     # -- rendering ------------------------------------------------------------------------------------
     def family_context(self) -> dict:
         profile = self.spec.profile
+        word_ctype = ctype_for((1 << self.k) - 1) if self.word_api else ""
         ctx = {
             "secded": self.secded,
             "check_bits": self.r,
@@ -189,7 +193,10 @@ class Hamming(CodeModel):
             "row_weights": [int(x) for x in self.H[:, :self.k].sum(axis=1)],
             "byte_tables": [], "nibble_tables": [], "position_table": [], "pos_ctype": ctype_for(self.n),
             "word_api": self.word_api,
-            "word_ctype": ctype_for((1 << self.k) - 1) if self.word_api else "",
+            "word_ctype": word_ctype,
+            # a word is widened to this before a shift: never a (possibly 16-bit) signed int
+            "word_shift": ("unsigned" if ctype_bytes(word_ctype) <= 2 else word_ctype) if self.word_api else "",
+            "check_mask": (1 << self.r) - 1,
         }
         if profile == "fast":
             ctx["byte_tables"] = [self._span_table(8 * b, 8) for b in range(self.data_bytes)]

@@ -92,6 +92,23 @@ static void soil_probe_demo(void)
 }
 
 /* EEPROM: 32-bit calibration words with SECDED. */
+/* The same code on a 32-bit integer, as firmware holds the word in a register: same check bits. */
+static void word_api_demo(void)
+{
+    const cal_word_word_t gain = 0x3F9D70A4u;                       /* the same float as below */
+    uint8_t checks = cal_word_encode_word(gain);
+    uint8_t bytes[CAL_WORD_PARITY_BYTES];
+    static const uint8_t gain_bytes[CAL_WORD_DATA_BYTES] = {0x3F, 0x9D, 0x70, 0xA4};
+    cal_word_word_t word = gain ^ 0x00100000u;                      /* data bit 11 flipped */
+    uint8_t read = checks;
+    int rc;
+
+    cal_word_encode(gain_bytes, sizeof gain_bytes, bytes);
+    outcome("word API: check bits equal the byte API's", checks == (uint8_t)(bytes[0] >> (8u * CAL_WORD_PARITY_BYTES - CAL_WORD_PARITY_BITS)), 1, 1);
+    rc = cal_word_decode_word(&word, &read);
+    outcome("word API: one flipped bit corrected in the register", rc, 1, word == gain && read == checks);
+}
+
 static void cal_word_demo(void)
 {
     static const uint8_t gain[CAL_WORD_DATA_BYTES] = {0x3F, 0x9D, 0x70, 0xA4};  /* a float, big-endian */
@@ -115,6 +132,7 @@ static void cal_word_demo(void)
     flip(word, 30u);
     outcome("two cells flipped: detected, word left as read", rc, CAL_WORD_ERR_UNCORRECTABLE,
             memcmp(word, gain, sizeof word) == 0);
+    word_api_demo();
 }
 
 /* SRAM: 64-bit words with SECDED (72,64); one bit of the check byte fails. */
