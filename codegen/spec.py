@@ -160,6 +160,13 @@ class ReedSolomonTable:
     root_step: int = field(default=1, metadata=_rng(1))
 
 
+@dataclass(frozen=True)
+class InterleaveTable:
+    depth: int = field(default=1, metadata=_rng(1, 64))
+
+
+INTERLEAVED_FAMILIES = ("bch", "reed-solomon")     # may add an optional [interleave] table
+
 # family name -> {table name -> table class}
 FAMILIES: dict[str, dict[str, type]] = {
     "crc-repetition": {"crc": CrcTable, "repetition": RepetitionTable},
@@ -220,6 +227,7 @@ class Spec:
     table_attr: str
     params: dict = field(hash=False, compare=False)
     table_space: str = "const"
+    depth: int = 1                 # [interleave] depth: codewords interleaved byte by byte in one frame
 
     @property
     def source_name(self) -> str:
@@ -356,6 +364,8 @@ def parse(doc: dict, path: str, sha256: str = "") -> Spec:
 
     if family:
         known = {"code", "c"} | set(FAMILIES[family])
+        if family in INTERLEAVED_FAMILIES:
+            known.add("interleave")
         for key in doc:
             if key not in known:
                 bad(key, "", f"unknown table for family {family!r} (known: {', '.join(sorted(known))})")
@@ -373,15 +383,20 @@ def parse(doc: dict, path: str, sha256: str = "") -> Spec:
                 params[tname] = obj
         if family == "crc-repetition" and "crc" in params:
             _check_crc(params["crc"], bad)
+    depth = 1
+    if family in INTERLEAVED_FAMILIES and "interleave" in doc:
+        interleave = _fill(InterleaveTable, "interleave", _table(doc, "interleave", bad), bad)
+        depth = interleave.depth if interleave is not None else 1
 
     if problems:
         partial = None
         if family and len(params) == len(FAMILIES[family]):     # the model can still look at its tables
             partial = Spec(path=path, sha256=sha256, name=name or "", family=family,
-                           profile=profile if profile in PROFILES else "fast", table_attr="", params=params)
+                           profile=profile if profile in PROFILES else "fast", table_attr="", params=params,
+                           depth=depth)
         raise SpecError(sort_problems(problems), partial)
     return Spec(path=path, sha256=sha256, name=name, family=family, profile=profile,
-                table_attr=table_attr, params=params, table_space=table_space)
+                table_attr=table_attr, params=params, table_space=table_space, depth=depth)
 
 
 def _table(doc: dict, name: str, bad, required: bool = True) -> dict:

@@ -28,6 +28,8 @@ class Case:
     errors: tuple[tuple[int, int], ...]   # (bit offset in data || parity, XOR value of unit_bits bits)
     # for models with decode_erasures: the erasure list (unit indexes into data || parity) passed to it
     erasures: tuple[int, ...] | None = None
+    # the model must correct this case (a burst within an interleaved frame's capability)
+    expect_corrected: bool = False
 
 
 @dataclass
@@ -103,6 +105,8 @@ def compare(model: CodeModel, module: harness.Module, case: Case) -> str | None:
         return f"{name} {', '.join(what)} differ (C {got[0]}, model {ref[0]}) {where}"
     if case.erasures is None and module.check(rd, rp) != model.check(rd, rp):
         return f"check differs {where}"
+    if case.expect_corrected and (ref[0] < 0 or ref[1] != case.data or ref[2][:plen] != parity):
+        return f"not corrected although within t per codeword (model {ref[0]}) {where}"
     return None
 
 
@@ -213,6 +217,33 @@ class _Cases:
                 yield Case(f"weight {w} (beyond t)", self.data(n), self._errors(units, self.pick(len(units), w)))
         if hasattr(self.model, "decode_erasures"):
             yield from self.erasure_cases()
+        if getattr(self.model, "depth", 1) > 1:
+            yield from self.interleaved_cases()
+
+    def interleaved_cases(self):
+        """Frame bursts: a run of up to depth x t consecutive frame bytes puts at most t bytes into each
+        codeword, each byte with one error unit (any symbol value for RS, one bit for BCH), and must be
+        corrected; t + 1 units in one codeword (the other codewords clean or within t) must agree too."""
+        depth, t, n = self.model.depth, self.p.t, self.p.data_bytes
+        units = self.model.error_units(n)
+        by_byte: dict[int, list[int]] = {}
+        for u in units:
+            by_byte.setdefault(u // 8, []).append(u)
+        frame_bytes = sorted(by_byte)
+        lengths = sorted({1, depth, depth * t - 1, depth * t} | {int(x) for x in self.rng.integers(
+            2, depth * t + 1, 3)})
+        for length in (x for x in lengths if 1 <= x <= len(frame_bytes)):
+            for _ in range(min(self.budget, 100)):
+                start = int(self.rng.integers(0, len(frame_bytes) - length + 1))
+                hit = [by_byte[b][int(self.rng.integers(0, len(by_byte[b])))]
+                       for b in frame_bytes[start:start + length]]
+                yield Case(f"frame bursts <= {depth}*t", self.data(n), tuple((u, self.value()) for u in hit),
+                           expect_corrected=True)
+        for _ in range(min(self.budget, 200)):
+            i = int(self.rng.integers(0, depth))
+            mine = [u for u in units if (u // 8) % depth == i]
+            picks = self.rng.choice(len(mine), min(t + 1, len(mine)), replace=False)
+            yield Case("one codeword t+1", self.data(n), self._errors(mine, picks))
 
     def erasure_cases(self):
         """Erasure lists for models with decode_erasures: erasures alone (some erased units right),

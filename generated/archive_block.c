@@ -1049,7 +1049,7 @@ int archive_block_decode_erasures(uint8_t *data, size_t data_len, uint8_t *parit
     if (data_len == 0u || data_len > ARCHIVE_BLOCK_DATA_BYTES) {
         return ARCHIVE_BLOCK_ERR_LENGTH;
     }
-    if (count > ARCHIVE_BLOCK_ERASURES_MAX) {
+    if (count > ARCHIVE_BLOCK_NROOTS) {
         return ARCHIVE_BLOCK_ERR_ARG;
     }
     total = data_len + ARCHIVE_BLOCK_NROOTS;

@@ -521,7 +521,7 @@ int beacon_telemetry_decode_erasures(uint8_t *data, size_t data_len, uint8_t *pa
     if (data_len == 0u || data_len > BEACON_TELEMETRY_DATA_BYTES) {
         return BEACON_TELEMETRY_ERR_LENGTH;
     }
-    if (count > BEACON_TELEMETRY_ERASURES_MAX) {
+    if (count > BEACON_TELEMETRY_NROOTS) {
         return BEACON_TELEMETRY_ERR_ARG;
     }
     total = data_len + BEACON_TELEMETRY_NROOTS;

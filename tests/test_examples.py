@@ -15,7 +15,8 @@ PROFILES = ["fast", "small", "tiny"]
 def test_example_campaign(path, profile):
     model = build(specmod.load(path).with_profile(profile))
     t = model.properties.t
-    budget = max(20, 600 // (t + 3))              # keeps long codes' Python reference affordable
+    depth = model.spec.depth                      # an interleaved frame costs depth codewords per case
+    budget = max(20, 600 // (t + 3)) if depth == 1 else max(8, 600 // ((t + 3) * depth))
     report = verify.campaign(model, compile_model(model), seed=11, budget=budget, progress=False)
     assert report.ok, report.table()
     expected = {"clean", "every data_len", "first/last unit", "bursts"}
@@ -24,4 +25,6 @@ def test_example_campaign(path, profile):
         expected |= {"parity only", "zeros data", "ones data"}
     if hasattr(model, "decode_erasures"):
         expected |= {"erasures", "erasures+errors", "erasures+errors (beyond)", "bad erasure list"}
+    if model.spec.depth > 1:
+        expected |= {f"frame bursts <= {model.spec.depth}*t", "one codeword t+1"}
     assert expected <= {k for k, n in report.cases.items() if n > 0}, report.cases

@@ -18,7 +18,11 @@ REGISTRY = {
 def build(spec: Spec) -> CodeModel:
     """The model for a validated spec; raises SpecError for problems only the model can see."""
     module, cls = REGISTRY[spec.family].split(":")
-    return getattr(importlib.import_module(f"{__name__}.{module}"), cls)(spec)
+    model = getattr(importlib.import_module(f"{__name__}.{module}"), cls)(spec)
+    if spec.depth > 1:
+        from .interleave import Interleaved, InterleavedErasures
+        return (InterleavedErasures if hasattr(model, "decode_erasures") else Interleaved)(model)
+    return model
 
 
 def load_specs(paths) -> list[Spec]:

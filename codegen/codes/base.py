@@ -119,6 +119,7 @@ class CodeModel(ABC):
             "k": p.k,
             "d": p.d,
             "unit": "bit" if p.unit_bits == 1 else "symbol",
+            "depth": 1,                 # codewords interleaved in one frame (codes/interleave.py)
         }
         if p.table_bytes > ARRAY_BYTES_16BIT:
             fit, fit_bytes = self.profile_for_16bit()

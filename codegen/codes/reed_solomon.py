@@ -332,6 +332,7 @@ class ReedSolomon(CodeModel):
         tables = self.c_tables()
         return {
             "nroots": self.nroots,
+            "erasures_max": self.nroots,
             "half_roots": self.half_roots,
             "words": self.words,
             "call_depth": self.call_depth,

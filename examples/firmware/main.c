@@ -14,6 +14,7 @@
 #include "mem_word.h"
 #include "meter_reading.h"
 #include "soil_probe.h"
+#include "telemetry_downlink.h"
 
 static int unexpected;
 
@@ -254,6 +255,38 @@ static void archive_block_demo(void)
     rc = archive_block_decode_erasures(record, sizeof record, parity, unreadable, 2u);
     outcome("a repeated erasure position: argument error", rc, ARCHIVE_BLOCK_ERR_ARG, 1);
 }
+/* Telemetry frame: 892 bytes as four interleaved RS(255,223) codewords, 128 check bytes. */
+static void telemetry_downlink_demo(void)
+{
+    static uint8_t sent[TELEMETRY_DOWNLINK_DATA_BYTES], frame[TELEMETRY_DOWNLINK_DATA_BYTES];
+    static uint8_t sent_parity[TELEMETRY_DOWNLINK_PARITY_BYTES], parity[TELEMETRY_DOWNLINK_PARITY_BYTES];
+    unsigned i;
+    int rc;
+
+    puts("telemetry_downlink: 4 x RS(255,223) interleaved byte by byte, 892-byte frame");
+    fill(sent, sizeof sent, 29u);
+    telemetry_downlink_encode(sent, sizeof sent, sent_parity);
+
+    memcpy(frame, sent, sizeof sent);
+    memcpy(parity, sent_parity, sizeof parity);
+    for (i = 0; i < 64u; i++) {
+        frame[300u + i] = (uint8_t)~frame[300u + i];                /* a fade: 64 bytes in a row */
+    }
+    rc = telemetry_downlink_decode(frame, sizeof frame, parity);
+    outcome("a 64-byte fade: 16 bad bytes per codeword, all repaired", rc, 64,
+            memcmp(frame, sent, sizeof sent) == 0);
+
+    for (i = 0; i < 17u; i++) {
+        frame[4u * i] ^= 0x5Au;                                      /* 17 bad bytes in codeword 0 */
+    }
+    rc = telemetry_downlink_decode(frame, sizeof frame, parity);
+    for (i = 0; i < 17u; i++) {
+        frame[4u * i] ^= 0x5Au;                                      /* undone: equal to sent if untouched */
+    }
+    outcome("17 bad bytes in one codeword: reported, frame untouched", rc, TELEMETRY_DOWNLINK_ERR_UNCORRECTABLE,
+            memcmp(frame, sent, sizeof sent) == 0 && memcmp(parity, sent_parity, sizeof parity) == 0);
+}
+
 /* NAND page: 2 KiB as four 512-byte sectors, each with 13 parity bytes in the spare area (BCH, t = 8). */
 static void flash_page_demo(void)
 {
@@ -323,6 +356,7 @@ int main(void)
     boot_header_demo();
     beacon_telemetry_demo();
     archive_block_demo();
+    telemetry_downlink_demo();
     flash_page_demo();
     meter_reading_demo();
     printf("%s\n", unexpected == 0 ? "all outcomes as expected" : "SOME OUTCOMES UNEXPECTED");
