@@ -9,10 +9,13 @@ from __future__ import annotations
 import re
 import shutil
 import subprocess
+from dataclasses import replace
 
 from common import emitted
 
-MCU = "atmega1284p"            # 16 KiB RAM: room for the fast profiles' tables while they sit in RAM
+from codegen.codes import build
+
+MCU = "atmega1284p"            # 128 KiB flash, 16 KiB RAM
 CFLAGS = ("-std=c99", "-Os")   # what AVR firmware is built with
 CLOCK = 16_000_000
 
@@ -57,7 +60,8 @@ static void bench_report(const char *label, uint32_t cycles)
 
 static uint32_t bench_base;
 /* Runs `stmt` once and reports its cycles. */
-#define BENCH(label, stmt) do { uint32_t a_ = bench_now(); stmt; bench_report(label, bench_now() - a_ - bench_base); } while (0)
+#define BENCH(label, stmt) \
+    do { uint32_t a_ = bench_now(); stmt; bench_report(label, bench_now() - a_ - bench_base); } while (0)
 
 static void bench_start(void)
 {
@@ -81,10 +85,12 @@ def available() -> bool:
 
 
 def cycles(model, driver_c: str) -> dict[str, int] | None:
-    """Run `driver_c` (PRELUDE + a main() calling BENCH) linked with the model's emitted C in simavr; the
-    reported cycles by label.  None when avr-gcc or simavr is missing."""
+    """Run `driver_c` (PRELUDE + a main() calling BENCH) linked with the model's C in simavr, its tables
+    in flash (table_space "avr-progmem", as AVR firmware keeps them); the reported cycles by label.  None
+    when avr-gcc or simavr is missing."""
     if not available():
         return None
+    model = build(replace(model.spec, table_space="avr-progmem"))
     with emitted(model, PRELUDE + driver_c) as (work, source, driver):
         elf = work / "bench.elf"
         subprocess.run(["avr-gcc", f"-mmcu={MCU}", *CFLAGS, "-I", str(work), str(source), str(driver),

@@ -107,7 +107,8 @@ def main() -> None:
             if ipb[0] and ipb[1]:
                 notes.append(f"{spec.name} {profile}: clean decode / encode = {ipb[1] / ipb[0]:.2f} (instructions)")
     print(table(f"BCH: us/call (cffi), host instr/data byte (callgrind, gcc -O2 x86-64), AVR cycles/data byte "
-                f"(simavr {avr.MCU}, avr-gcc {' '.join(avr.CFLAGS)}, Timer1), galois us/word (batched, same words)",
+                f"(simavr {avr.MCU}, avr-gcc {' '.join(avr.CFLAGS)}, Timer1, tables in flash), "
+                "galois us/word (batched, same words)",
                 ["code", "profile", "operation", "table B", "us/call", "instr/B", "AVR cyc/B", "galois us"],
                 rows))
     for note in notes:

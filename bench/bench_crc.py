@@ -78,7 +78,8 @@ def main() -> None:
                 cpb = f"{(cyc['full'] - cyc['empty']) / AVR_BUF:.1f}"
             rows.append([label, profile, model.properties.table_bytes, f"{BUF / secs / 1e6:.0f}", ipb, cpb])
     print(table(f"CRC: MB/s over 1 MiB (cffi call), host instr/byte over 64 KiB (callgrind, gcc -O2 x86-64), "
-                f"AVR cycles/byte over {AVR_BUF} B (simavr {avr.MCU}, avr-gcc {' '.join(avr.CFLAGS)}, Timer1)",
+                f"AVR cycles/byte over {AVR_BUF} B (simavr {avr.MCU}, avr-gcc {' '.join(avr.CFLAGS)}, Timer1, "
+                "tables in flash)",
                 ["code", "profile", "table bytes", "MB/s", "instr/byte", "AVR cycles/byte"], rows))
 
 

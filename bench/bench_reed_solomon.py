@@ -103,8 +103,8 @@ def main() -> None:
                              "n/a" if ipb[i] is None else f"{ipb[i]:.1f}",
                              "" if cyc is None else f"{cyc[key] / k:.0f}", f"{galois_us[i]:.0f}"])
     print(table(f"Reed-Solomon: us/call (cffi, {WORDS} words), host instr/data byte (callgrind, gcc -O2 x86-64), "
-                f"AVR cycles/data byte (simavr {avr.MCU}, avr-gcc {' '.join(avr.CFLAGS)}, Timer1), "
-                f"galois us/word (batched, same words)",
+                f"AVR cycles/data byte (simavr {avr.MCU}, avr-gcc {' '.join(avr.CFLAGS)}, Timer1, tables in flash), "
+                "galois us/word (batched, same words)",
                 ["code", "profile", "operation", "table B", "us/call", "instr/B", "AVR cyc/B", "galois us"],
                 rows))
 
