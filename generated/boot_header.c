@@ -35,11 +35,13 @@ typedef boot_header_crc_value_t boot_header_reg_t;
 #define BOOT_HEADER_REG_POLY   ((boot_header_reg_t)0xEDB88320UL)
 #define BOOT_HEADER_XOR_OUT    ((boot_header_crc_value_t)0xFFFFFFFFUL)
 
-/* Register update for one input nibble: entry i is the register after shifting i through 4 steps
- * of the polynomial division, computed by the bitmend model. */
-BOOT_HEADER_TABLE_ATTR static const boot_header_reg_t boot_header_table[16] = {
+/* Register update for one input nibble: entries 0..15 are the register after a nibble i enters an empty
+ * register, entries 16..31 the same followed by one zero nibble.  Computed by the bitmend model. */
+BOOT_HEADER_TABLE_ATTR static const boot_header_reg_t boot_header_table[32] = {
     0x00000000UL, 0x1DB71064UL, 0x3B6E20C8UL, 0x26D930ACUL, 0x76DC4190UL, 0x6B6B51F4UL, 0x4DB26158UL, 0x5005713CUL,
-    0xEDB88320UL, 0xF00F9344UL, 0xD6D6A3E8UL, 0xCB61B38CUL, 0x9B64C2B0UL, 0x86D3D2D4UL, 0xA00AE278UL, 0xBDBDF21CUL
+    0xEDB88320UL, 0xF00F9344UL, 0xD6D6A3E8UL, 0xCB61B38CUL, 0x9B64C2B0UL, 0x86D3D2D4UL, 0xA00AE278UL, 0xBDBDF21CUL,
+    0x00000000UL, 0x77073096UL, 0xEE0E612CUL, 0x990951BAUL, 0x076DC419UL, 0x706AF48FUL, 0xE963A535UL, 0x9E6495A3UL,
+    0x0EDB8832UL, 0x79DCB8A4UL, 0xE0D5E91EUL, 0x97D2D988UL, 0x09B64C2BUL, 0x7EB17CBDUL, 0xE7B82D07UL, 0x90BF1D91UL
 };
 #define BOOT_HEADER_ENTRY(i) BOOT_HEADER_TABLE_READ32(boot_header_table, i)
 
@@ -48,17 +50,18 @@ boot_header_crc_value_t boot_header_crc_start(void)
     return BOOT_HEADER_REG_INIT;
 }
 
+/* Reads the data byte by byte (any alignment) and assembles whole blocks itself. */
 boot_header_crc_value_t boot_header_crc_add(boot_header_crc_value_t state, const uint8_t *data, size_t len)
 {
     boot_header_reg_t reg = state;
-    size_t i;
+    unsigned x;
 
     if (data == NULL) {
         return state;
     }
-    for (i = 0; i < len; i++) {
-        reg = (boot_header_reg_t)(BOOT_HEADER_ENTRY((reg ^ data[i]) & 0x0Fu) ^ (reg >> 4));
-        reg = (boot_header_reg_t)(BOOT_HEADER_ENTRY((reg ^ ((unsigned)data[i] >> 4)) & 0x0Fu) ^ (reg >> 4));
+    for (; len > 0u; len--, data++) {
+        x = (unsigned)((reg ^ data[0]) & 0xFFu);
+        reg = (boot_header_reg_t)((reg >> 8) ^ BOOT_HEADER_ENTRY(16u + (x & 0x0Fu)) ^ BOOT_HEADER_ENTRY(x >> 4));
     }
     return reg;
 }

@@ -32,7 +32,7 @@ extern "C" {
 #define BOOT_HEADER_DATA_BYTES        64u          /* largest data block, bytes */
 #define BOOT_HEADER_PARITY_BYTES      4u           /* check bytes for the largest block */
 #define BOOT_HEADER_CORRECTABLE       0            /* = _T, as an int like _decode's return */
-#define BOOT_HEADER_TABLE_BYTES       64u          /* constant table bytes in the .c */
+#define BOOT_HEADER_TABLE_BYTES       128u         /* constant table bytes in the .c */
 #define BOOT_HEADER_STACK_BYTES       480u         /* worst-case stack bound, bytes */
 #define BOOT_HEADER_ERR_UNCORRECTABLE (-1)         /* errors found that the code cannot correct */
 #define BOOT_HEADER_ERR_LENGTH        (-2)         /* a data_len the code does not take */

@@ -33,7 +33,7 @@ extern "C" {
 #define SOIL_PROBE_DATA_BYTES        24u          /* largest data block, bytes */
 #define SOIL_PROBE_PARITY_BYTES      54u          /* check bytes for the largest block */
 #define SOIL_PROBE_CORRECTABLE       2            /* = _T, as an int like _decode's return */
-#define SOIL_PROBE_TABLE_BYTES       512u         /* constant table bytes in the .c */
+#define SOIL_PROBE_TABLE_BYTES       1024u        /* constant table bytes in the .c */
 #define SOIL_PROBE_STACK_BYTES       480u         /* worst-case stack bound, bytes */
 #define SOIL_PROBE_ERR_UNCORRECTABLE (-1)         /* errors found that the code cannot correct */
 #define SOIL_PROBE_ERR_LENGTH        (-2)         /* a data_len the code does not take */

@@ -112,6 +112,19 @@ class Crc:
         reg_bytes = self.reg_bits // 8
         return max(1, min(reg_bytes, 4096 // (256 * reg_bytes)))
 
+    def byte_shifts(self, count: int) -> list[int]:
+        """Where byte j of a block of `count` bytes enters the register: bit 8j when reflected (the first
+        byte lowest), else below the previous one from the top."""
+        if self.reflect_in:
+            return [8 * j for j in range(count)]
+        return [self.reg_bits - 8 * (j + 1) for j in range(count)]
+
+    def pair_images(self) -> tuple[int, int]:
+        """Two register steps in one: the images of the bit that leaves first and of the one after it
+        (the two-bit table's rows for those bits)."""
+        rows = self.tables(2, 1)[0]
+        return (rows[1], rows[2]) if self.reflect_in else (rows[2], rows[1])
+
 
 class CrcRepetition(CodeModel):
     template = "crc_repetition"
@@ -136,7 +149,7 @@ class CrcRepetition(CodeModel):
     @property
     def properties(self) -> Properties:
         block = self.data_bytes + self.crc.nbytes
-        table = {"fast": 256, "small": 16, "tiny": 0}[self.spec.profile] * ctype_bytes(self.crc.ctype)
+        table = {"fast": 256 * self.crc.slices, "small": 32, "tiny": 0}[self.spec.profile] * ctype_bytes(self.crc.ctype)
         return Properties(n=self.copies * block * 8, k=self.data_bytes * 8, t=self.correctable,
                           d=2 * self.copies, unit_bits=1, data_bytes=self.data_bytes,
                           parity_bytes=self.parity_len(self.data_bytes), table_bytes=table)
@@ -201,6 +214,8 @@ class CrcRepetition(CodeModel):
     # -- rendering ------------------------------------------------------------------------------------
     def family_context(self) -> dict:
         crc = self.crc
+        profile = self.spec.profile
+        first, second = crc.pair_images()
         return {
             "crc_ctype": crc.ctype,
             "crc_check": crc.compute(CHECK_INPUT),
@@ -223,6 +238,20 @@ class CrcRepetition(CodeModel):
             "final_reflect": crc.final_reflect,
             "copies": self.copies,
             "max_count": MAX_COUNT,
-            "table_byte": crc.table(8) if self.spec.profile == "fast" else [],
-            "table_nibble": crc.table(4) if self.spec.profile == "small" else [],
+            # fast: `slices` bytes per step, one table per byte position (sliced, crc.tables)
+            "slices": crc.slices,
+            "table_slices": sum(crc.tables(8, crc.slices), []) if profile == "fast" else [],
+            "slice_bytes": [{"index": j, "shift": sh, "base": 256 * (crc.slices - 1 - j)}
+                            for j, sh in enumerate(crc.byte_shifts(crc.slices))],
+            "slice_keep": 8 * crc.slices if crc.slices < crc.reg_bits // 8 else 0,
+            # small: a byte as two nibbles, the first one through table 1 (it has a nibble to go), then table 0
+            "table_nibbles": sum(crc.tables(4, 2), []) if profile == "small" else [],
+            # tiny: whole registers of bytes, two bits per step
+            "word_bytes": crc.reg_bits // 8,
+            "word_shifts": [{"index": j, "shift": sh} for j, sh in enumerate(crc.byte_shifts(crc.reg_bits // 8))],
+            "byte_shift": crc.byte_shifts(1)[0],
+            "pair_first": first,
+            "pair_second": second,
+            "top_shift": crc.reg_bits - 1,
+            "second_shift": crc.reg_bits - 2,
         }
