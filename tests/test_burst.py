@@ -11,7 +11,7 @@ import numpy as np
 import pytest
 
 from codegen import cli
-from codegen.channels import GilbertElliott, analysis, simulate
+from codegen.channels import GilbertElliott, analysis, bsc, simulate
 from conftest import EXAMPLES, ROOT, make_model
 
 stats = pytest.importorskip("scipy.stats")
@@ -182,3 +182,123 @@ def test_crc_repetition_under_bursts_is_refused(capsys):
     boot = ROOT / "examples" / "boot_header.toml"
     assert cli.main(["analyze", str(boot), "--flip-prob", "1e-3", "--channel", "burst", "--burst-len", "8"]) == 2
     assert "binary symmetric channel only" in capsys.readouterr().err
+
+
+# -- interleaved frames ----------------------------------------------------------------------------------
+
+def _plain_frame(ch: GilbertElliott, unit_bits: int, byte_units: list[int], t: int, depth: int):
+    """(frame failure, codeword 0 failure) by a plain forward recursion over every bit of the frame, with
+    the state (channel state, each codeword's error count, current unit hit) in a dict (common practice,
+    no source).  Byte j of codeword i is frame byte j * depth + i; a byte's first units are counted."""
+    P, e = ch.P, ch.flips
+    dist = {(0, (0,) * depth): ch.pi[0], (1, (0,) * depth): ch.pi[1]}
+    failed = 0.0
+    for j, units in enumerate(byte_units):
+        for i in range(depth):
+            # within the byte: (state, counts, hit) with hit = the current unit has a flip
+            cur = {(s, c, False): p for (s, c), p in dist.items()}
+            for bit in range(8):
+                counted = bit < units * unit_bits
+                nxt = {}
+                for (s, c, hit), p in cur.items():
+                    for flip, pf in ((True, e[s]), (False, 1 - e[s])):
+                        h = hit or (flip and counted)
+                        for v in range(2):
+                            key = (v, c, h)
+                            nxt[key] = nxt.get(key, 0.0) + p * pf * P[s, v]
+                cur = {}
+                end_of_unit = counted and (bit + 1) % unit_bits == 0
+                for (s, c, h), p in nxt.items():
+                    if end_of_unit and h:
+                        c = c[:i] + (c[i] + 1,) + c[i + 1:]
+                        h = False
+                    if c[i] > t:
+                        failed += p
+                        continue
+                    cur[(s, c, h)] = cur.get((s, c, h), 0.0) + p
+            dist = {}
+            for (s, c, _), p in cur.items():
+                dist[(s, c)] = dist.get((s, c), 0.0) + p
+    return failed
+
+
+@pytest.mark.parametrize("unit_bits,byte_units,t,depth", [(8, [1] * 6, 1, 2), (8, [1] * 5, 2, 3),
+                                                          (1, [8, 8, 3], 2, 2)])
+def test_interleaved_frame_against_plain_recursion(unit_bits, byte_units, t, depth):
+    ch = GilbertElliott(0.03, 6.0, 0.5, 0.001)
+    r = ch.interleaved_failure(unit_bits, byte_units, t, depth)
+    assert r["frame_exact"]
+    assert r["frame_failure"] == pytest.approx(_plain_frame(ch, unit_bits, byte_units, t, depth), rel=1e-9)
+    # one codeword alone: the same recursion on a frame of depth 1 with the other codewords' bytes as gaps
+    # is what the span composition computes; at depth 1 it is the plain units failure
+    one = ch.interleaved_failure(unit_bits, byte_units, t, 1)
+    assert one["codeword_failure"] == pytest.approx(_plain_frame(ch, unit_bits, byte_units, t, 1), rel=1e-9)
+    lo, hi = r["frame_failure_bounds"]
+    assert lo <= r["frame_failure"] <= hi
+
+
+def test_interleaved_memoryless_is_independent_codewords():
+    # memoryless chain: codewords independent, frame = 1 - (1 - p)^I with p from scipy.stats.binom
+    f = 2e-3
+    ch = _memoryless(f)
+    r = ch.interleaved_failure(8, [1] * 40, 3, 4)
+    p = stats.binom.sf(3, 40, stats.binom.sf(0, 8, f))
+    assert r["codeword_failure"] == pytest.approx(p, rel=1e-9)
+    assert r["frame_failure"] == pytest.approx(1 - (1 - p) ** 4, rel=1e-9)
+
+
+def test_interleaving_cuts_the_burst_failure():
+    ch = GilbertElliott(1e-3, 20.0)
+    plain = ch.units_failure(255, 8, 16)
+    r = ch.interleaved_failure(8, [1] * 255, 16, 4, exact=False)
+    assert r["codeword_failure"] < plain / 1e4
+
+
+DOWNLINK = ROOT / "examples" / "telemetry_downlink.toml"
+
+
+def test_analyze_interleaved_json(tmp_path):
+    js = tmp_path / "a.json"
+    assert cli.main(["analyze", str(DOWNLINK), "--flip-prob", "1e-3", "--channel", "burst", "--burst-len", "20",
+                     "--json", str(js)]) == 0
+    data = json.loads(js.read_text())
+    assert data["depth"] == 4 and data["frame_exact"] is True
+    lo, hi = data["frame_failure_bounds"]
+    assert lo == data["codeword_failure"] and lo <= data["frame_failure"] <= hi == pytest.approx(4 * lo)
+    assert data["block_failure"] == data["frame_failure"]
+
+
+def test_interleaved_simulation_brackets_the_exact_frame_failure():
+    text = ('[code]\nname = "small_frame"\nfamily = "reed-solomon"\n[reed-solomon]\nn = 24\nk = 16\n'
+            '[interleave]\ndepth = 3\n')
+    model = make_model(text)
+    ch = GilbertElliott(0.02, 12.0)
+    exact = analysis.block_failure(model, ch)
+    assert 0.02 < exact < 0.9
+    res = simulate.run(model.spec, ch, 2000, seed=9, progress=False)
+    lo, hi = res.ci95
+    assert lo <= exact <= hi
+
+
+def test_recommend_under_bursts_interleaves_where_the_bsc_pick_misses(tmp_path):
+    from codegen import spec as specmod
+    from codegen.channels import BSC, recommend
+    from codegen.codes import build
+    burst = GilbertElliott(1e-3, 20.0)
+    target = 1e-9
+    bsc_pick = recommend.search(512, BSC(1e-3), target, families=["reed-solomon"]).best
+    # the BSC's pick, judged on the bursty channel: far from the target
+    model = build(specmod.parse(bsc_pick.doc("fast"), "pick.toml"))
+    miss = bsc.repeat_failure(analysis.block_failure(model, burst), bsc_pick.codewords)
+    assert miss > 100 * target
+    out = recommend.search(512, burst, target, families=["reed-solomon"])
+    best = out.best
+    assert best.depth > 1 or best.t > bsc_pick.t
+    assert best.block_failure <= target
+    # held against the exact frame recursion (the search used the union bound, an upper bound)
+    model = build(specmod.parse(best.doc("fast"), "best.toml"))
+    frames = -(-best.codewords // best.depth)
+    assert bsc.repeat_failure(analysis.block_failure(model, burst), frames) <= best.block_failure
+    assert out.as_dict()["candidates"][0]["depth"] == best.depth
+    text = recommend.spec_text(best, out)
+    assert ("[interleave]" in text) == (best.depth > 1)

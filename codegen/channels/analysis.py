@@ -36,9 +36,10 @@ def channel_bits(model: CodeModel) -> int:
     return p.n * p.unit_bits
 
 
-def failure(model: CodeModel, ch: Channel) -> dict:
-    """Block failure (one codeword) on channel `ch`, with the family's extra figures.  Figures that are
-    worked out for the memoryless channel only are None under another channel, with the reason."""
+def failure(model: CodeModel, ch: Channel, exact: bool = True) -> dict:
+    """Block failure (one codeword, or one frame of an interleaved module) on channel `ch`, with the
+    family's extra figures.  Figures that are worked out for the memoryless channel only are None under
+    another channel, with the reason.  exact=False skips the exact frame recursion (curves)."""
     p = model.properties
     f = ch.flip_prob
     family = _family(model)
@@ -62,7 +63,11 @@ def failure(model: CodeModel, ch: Channel) -> dict:
                                 "as 2^-width per damaged block checked")
         return out
     symbols = p.unit_bits > 1 or family == "reed-solomon"
-    out["block_failure"] = ch.units_failure(p.n, p.unit_bits, p.t)
+    depth = getattr(model, "depth", 1)
+    if depth > 1:
+        out.update(frame_failure(model, ch, exact))
+    else:
+        out["block_failure"] = ch.units_failure(p.n, p.unit_bits, p.t)
     if symbols:
         ps = ch.unit_error(p.unit_bits)
         out["symbol_error"] = ps
@@ -97,6 +102,29 @@ def failure(model: CodeModel, ch: Channel) -> dict:
     return out
 
 
+def byte_units(model) -> list[int]:
+    """Units that each byte of one codeword holds (data then parity), from the codeword model's units."""
+    inner = model.inner
+    n = inner.properties.data_bytes
+    counts = [0] * (n + inner.parity_len(n))
+    for u in inner.error_units(n):
+        counts[u // 8] += 1
+    return counts
+
+
+def frame_failure(model, ch: Channel, exact: bool = True) -> dict:
+    """An interleaved frame: its failure (the frame fails when any codeword does), one codeword's, and
+    bounds [worst codeword, union bound] where the exact recursion is too large (or not asked for)."""
+    p = model.properties
+    r = ch.interleaved_failure(p.unit_bits, byte_units(model), p.t, model.depth, exact=exact)
+    how = ("exact" if r["frame_exact"] else
+           "union bound over the codewords (an upper bound; the worst codeword is a lower one)")
+    return {"block_failure": r["frame_failure"], "frame_failure": r["frame_failure"],
+            "frame_failure_bounds": r["frame_failure_bounds"], "codeword_failure": r["codeword_failure"],
+            "frame_exact": r["frame_exact"], "depth": model.depth,
+            "frame_model": f"a frame of {model.depth} interleaved codewords fails when any does: {how}"}
+
+
 def parity_check_columns(model) -> list[int] | None:
     """The columns of the model's parity-check matrix as ints (row 0 most significant), or None."""
     H = getattr(model, "H", None)
@@ -114,7 +142,8 @@ UNDERFLOW = 1e-300           # probabilities below this are not told apart from 
 NORMAL_MIN_FLIPS = 1         # fewer expected flips per block (n f (1 - f)): the information density is
                              # nowhere near normal, so the normal approximation is not meaningful (our rule)
 PROBABILITIES = ("block_failure", "post_decoding_ber", "symbol_error", "detected", "undetected",
-                 "crc_undetected_estimate", "vote_bit_error", "copy_damaged")
+                 "crc_undetected_estimate", "vote_bit_error", "copy_damaged", "frame_failure",
+                 "codeword_failure")
 
 
 def finite_length(bits: int, t: int, ch: Channel, eps: float) -> tuple[float | None, str | None]:
@@ -152,7 +181,7 @@ def analyze(model: CodeModel, ch: Channel) -> dict:
     cap = bsc.capacity(f)
     fail = failure(model, ch)
     eps = min(1.0, max(0.0, fail["block_failure"]))
-    fl, note = finite_length(bits, p.t, ch, eps)
+    fl, note = finite_length(bits, p.t, ch, fail.get("codeword_failure", eps))
     out = {
         "name": model.spec.name,
         "family": _family(model),
@@ -247,7 +276,14 @@ def table(result: dict) -> str:
         rows.append(("symbol error", prob("symbol_error")))
     if "vote_bit_error" in result and result["vote_bit_error"] is not None:
         rows.append(("vote bit error", prob("vote_bit_error")))
-    rows.append(("block failure", prob("block_failure")))
+    if "frame_failure" in result:
+        lo, hi = result["frame_failure_bounds"]
+        rows.append(("codeword failure", prob("codeword_failure")))
+        rows.append((f"frame failure ({result['depth']} cw)", prob("frame_failure")
+                     + ("  (exact)" if result["frame_exact"] else
+                        f"  (union bound; at least {fmt(lo)}, the worst codeword)")))
+    else:
+        rows.append(("block failure", prob("block_failure")))
     if "detected" in result:
         rows.append(("  detected", prob("detected")))
         rows.append(("  undetected", prob("undetected")))

@@ -38,6 +38,18 @@ class Channel(ABC):
         """P(more than t of n consecutive units of `unit_bits` bits are in error): the exact failure of a
         bounded-distance decoder correcting t units."""
 
+    def interleaved_failure(self, unit_bits: int, byte_units: list[int], t: int, depth: int,
+                            exact: bool = True) -> dict:
+        """Failures of a frame of `depth` codewords interleaved byte by byte (byte j of codeword i is frame
+        byte j * depth + i).  `byte_units[j]`: units of `unit_bits` bits that byte j of a codeword holds
+        (its first bits; the rest are padding).  Returns codeword_failure (one codeword, exact),
+        frame_failure (exact when frame_exact, else the union bound) and frame_failure_bounds
+        [worst codeword, union bound].  Here: independent codewords, which a memoryless channel gives."""
+        one = self.units_failure(sum(byte_units), unit_bits, t)
+        frame = -math.expm1(depth * math.log1p(-one)) if one < 1.0 else 1.0
+        return {"codeword_failure": one, "frame_failure": frame, "frame_exact": True,
+                "frame_failure_bounds": [one, min(1.0, depth * one)]}
+
     @abstractmethod
     def flip_positions(self, rng: np.random.Generator, bits: int) -> np.ndarray:
         """One random draw of the channel over `bits` consecutive bits: the indices of the flipped ones."""

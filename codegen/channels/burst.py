@@ -18,6 +18,7 @@ costs a few dozen compositions.  A unit of m bits (an RS symbol) counts once whe
 """
 from __future__ import annotations
 
+import itertools
 import math
 
 import numpy as np
@@ -144,6 +145,67 @@ class GilbertElliott(Channel):
         if t >= n:
             return 0.0
         return self._failure(self.unit(unit_bits, t).power(n))
+
+    def byte_span(self, unit_bits: int, units: int, top: int) -> Span:
+        """One codeword byte holding `units` units of `unit_bits` bits, then its padding bits."""
+        span = self.unit(unit_bits, top).power(units)
+        pad = 8 - units * unit_bits
+        return span.then(self.skip(pad, top)) if pad else span
+
+    def interleaved_failure(self, unit_bits: int, byte_units: list[int], t: int, depth: int,
+                            exact: bool = True) -> dict:
+        """Codeword failure exact: the chain seen on one codeword (its bytes, each followed by the
+        depth - 1 bytes of the other codewords, skipped) is again a Markov chain, composed span by span.
+        Frame failure exact by a forward recursion over the channel state and every codeword's error count
+        while that takes at most STATE_LIMIT states (and `exact`), else the union bound, with the worst
+        codeword below."""
+        gap = self.skip(8 * (depth - 1), t)
+        kinds = {u: self.byte_span(unit_bits, u, t) for u in set(byte_units)}
+        span = None
+        for u, run in itertools.groupby(byte_units):
+            # each byte then the other codewords' bytes; a skip after the last one changes no error count
+            step = kinds[u].then(gap).power(len(list(run)))
+            span = step if span is None else span.then(step)
+        one = self._failure(span)
+        union = min(1.0, depth * one)
+        out = {"codeword_failure": one, "frame_failure": union, "frame_exact": False,
+               "frame_failure_bounds": [one, union]}
+        if exact and 2 * (t + 1) ** depth <= STATE_LIMIT:
+            out["frame_failure"] = self._frame_failure([kinds[u] for u in byte_units], t, depth)
+            out["frame_exact"] = True
+        return out
+
+    def _frame_failure(self, byte_spans: list[Span], t: int, depth: int) -> float:
+        """Forward recursion over the frame, byte by byte: w[s, c_0, ..., c_{depth-1}] is the chance of
+        channel state s before the byte and c_i errors so far in codeword i (none above t); the mass that
+        would exceed t in any codeword is moved to `failed` as it arises (non-negative sums only)."""
+        w = np.zeros((2,) + (t + 1,) * depth)
+        w[(0,) + (0,) * depth] = self.pi[0]
+        w[(1,) + (0,) * depth] = self.pi[1]
+        failed = 0.0
+        for j, span in enumerate(byte_spans):
+            for i in range(depth):
+                new = np.zeros_like(w)
+                for s in range(2):
+                    ws = w[s]
+                    total = ws.sum()
+                    if total == 0.0:
+                        continue
+                    for u in range(2):
+                        failed += span.tail[s, u] * total
+                        for d in range(min(span.top, t) + 1):
+                            c = span.poly[s, u, d]
+                            if c == 0.0:
+                                continue
+                            src = [slice(None)] * depth
+                            dst = [slice(None)] * depth
+                            src[i], dst[i] = slice(0, t + 1 - d), slice(d, t + 1)
+                            new[u][tuple(dst)] += c * ws[tuple(src)]
+                            if d:
+                                src[i] = slice(t + 1 - d, t + 1)
+                                failed += c * ws[tuple(src)].sum()
+                w = new
+        return min(1.0, failed)
 
     def flip_positions(self, rng: np.random.Generator, bits: int) -> np.ndarray:
         states = np.empty(bits, dtype=np.int8)

@@ -49,11 +49,14 @@ class Candidate:
     t: int = 0
     unit_bits: int = 1
     rate: float = 0.0
+    depth: int = 1                  # codewords interleaved per frame
     notes: list = field(default_factory=list)
 
     def doc(self, profile: str) -> dict:
         d = {"code": {"name": self.name, "family": self.family}}
         d.update(self.tables)
+        if self.depth > 1:
+            d["interleave"] = {"depth": self.depth}
         if profile != "fast":
             d["c"] = {"profile": profile}
         return d
@@ -65,7 +68,7 @@ class Candidate:
                 if key in ("init", "reflect_in", "reflect_out", "xor_out", "poly"):
                     continue
                 parts.append(f"{key}={value}")
-        return " ".join(parts)
+        return " ".join(parts + ([f"depth={self.depth}"] if self.depth > 1 else []))
 
     def as_dict(self) -> dict:
         return {"family": self.family, "name": self.name, "parameters": self.tables,
@@ -73,7 +76,7 @@ class Candidate:
                 "parity_bytes": self.parity_bytes, "table_bytes": self.table_bytes,
                 "block_failure": self.block_failure, "codeword_failure": self.codeword_failure,
                 "n": self.n, "k": self.k, "t": self.t, "unit_bits": self.unit_bits, "rate": self.rate,
-                "notes": self.notes}
+                "depth": self.depth, "notes": self.notes}
 
 
 def splits(data_bytes: int, smallest_chunk: int = 1, fewest: int = 1) -> list[int]:
@@ -128,16 +131,43 @@ def _fewest_t(failures, target: float) -> int | None:
     return None if best is None else best[0]
 
 
+DEPTHS = (1, 2, 4, 8, 16, 32, 64)       # interleaving depths tried where the channel has memory
+
+
+def _layouts(data_bytes: int, ch: Channel, fewest: int):
+    """(codewords, depth, frames) to try: every split, and under a channel with memory each split rounded
+    up to whole frames of every depth (interleaving buys nothing on independent flips)."""
+    seen = set()
+    for count in splits(data_bytes, 1, fewest):
+        for depth in (DEPTHS if ch.kind != "bsc" else (1,)):
+            if depth > 1 and depth > count * 4:
+                break
+            frames = math.ceil(count / depth)
+            chunk = math.ceil(data_bytes / (frames * depth))
+            if (chunk, depth) not in seen:
+                seen.add((chunk, depth))
+                yield math.ceil(data_bytes / chunk), depth, chunk
+
+
+def _whole(ch: Channel, unit_bits: int, byte_units: list[int], t: int, depth: int, codewords: int) -> float:
+    """Failure for the whole data: frames of `depth` codewords failing independently, each frame's
+    failure the union bound over its codewords (exact for depth 1)."""
+    if depth == 1:
+        one = ch.units_failure(sum(byte_units), unit_bits, t)
+    else:
+        one = ch.interleaved_failure(unit_bits, byte_units, t, depth, exact=False)["frame_failure"]
+    return bsc.repeat_failure(one, math.ceil(codewords / depth))
+
+
 def _bch(data_bytes: int, ch: Channel, target: float):
     biggest = ((1 << 16) - 1 - 16 * 64) // 8         # bytes one GF(2^16) codeword holds with t = 64
-    for count in splits(data_bytes, 1, math.ceil(data_bytes / biggest)):
-        chunk = math.ceil(data_bytes / count)
+    for count, depth, chunk in _layouts(data_bytes, ch, math.ceil(data_bytes / biggest)):
         bits = 8 * chunk
         m_min = next((m for m in range(3, 17) if (1 << m) - 1 >= bits + m), None)
         if m_min is None:
             continue
         for m in range(m_min, min(m_min + 1, 16) + 1):
-            def failures(m=m, bits=bits, count=count):
+            def failures(m=m, bits=bits, count=count, depth=depth):
                 roots: set[int] = set()
                 for t in range(1, MAX_BCH_T + 1):
                     i = 2 * t - 1
@@ -146,24 +176,26 @@ def _bch(data_bytes: int, ch: Channel, target: float):
                     n = bits + len(roots)
                     if n > (1 << m) - 1:
                         return
-                    yield t, bsc.repeat_failure(ch.units_failure(n, 1, t), count)
+                    r = len(roots)
+                    yield t, _whole(ch, 1, [8] * (chunk + r // 8) + ([r % 8] if r % 8 else []), t, depth,
+                                    count)
 
             t = _fewest_t(failures(), target)
             if t is not None:
-                yield Candidate("bch", f"bch_m{m}_t{t}", {"bch": {"m": m, "t": t, "data_bits": bits}},
-                                count, chunk)
+                yield Candidate("bch", f"bch_m{m}_t{t}" + (f"_x{depth}" if depth > 1 else ""),
+                                {"bch": {"m": m, "t": t, "data_bits": bits}}, count, chunk, depth=depth)
 
 
 def _reed_solomon(data_bytes: int, ch: Channel, target: float):
     m = 8
     order = (1 << m) - 1
-    for count in splits(data_bytes, 1, math.ceil(data_bytes / (order - 2))):
-        k = math.ceil(data_bytes / count)
-        t = _fewest_t(((t, bsc.repeat_failure(ch.units_failure(k + 2 * t, m, t), count))
+    for count, depth, k in _layouts(data_bytes, ch, math.ceil(data_bytes / (order - 2))):
+        t = _fewest_t(((t, _whole(ch, m, [1] * (k + 2 * t), t, depth, count))
                        for t in range(1, (order - k) // 2 + 1)), target)
         if t is not None:
-            yield Candidate("reed-solomon", f"rs_n{k + 2 * t}_k{k}",
-                            {"reed-solomon": {"n": k + 2 * t, "k": k, "symbol_bits": m}}, count, k)
+            yield Candidate("reed-solomon", f"rs_n{k + 2 * t}_k{k}" + (f"_x{depth}" if depth > 1 else ""),
+                            {"reed-solomon": {"n": k + 2 * t, "k": k, "symbol_bits": m}}, count, k,
+                            depth=depth)
 
 
 def _crc_repetition(data_bytes: int, ch: Channel, target: float):
@@ -195,18 +227,21 @@ def _judge(c: Candidate, ch: Channel, profile: str) -> Candidate:
     spec = parse(c.doc(profile), f"{c.name}.toml")
     model = build(spec)
     p = model.properties
-    fig = analysis.failure(model, ch)
-    one = fig["block_failure"]
+    fig = analysis.failure(model, ch, exact=False)
+    one = fig["block_failure"]                   # one codeword, or one frame of c.depth codewords
     if "crc_undetected_estimate" in fig:
         one = min(1.0, one + fig["crc_undetected_estimate"])
         c.notes.append("failure includes the CRC miss estimate")
-    if p.data_bytes < c.chunk_bytes:
-        raise ValueError(f"{c.name}: model holds {p.data_bytes} bytes, not {c.chunk_bytes}")
+    if p.data_bytes < c.depth * c.chunk_bytes:
+        raise ValueError(f"{c.name}: model holds {p.data_bytes} bytes, not {c.depth * c.chunk_bytes}")
+    frames = math.ceil(c.codewords / c.depth)
     if c.codewords > 1:
         c.notes.append(f"data split over {c.codewords} codewords of {c.chunk_bytes} bytes")
-    c.codeword_failure = one
-    c.block_failure = bsc.repeat_failure(one, c.codewords)
-    c.parity_bytes = c.codewords * model.parity_len(c.chunk_bytes)
+    if c.depth > 1:
+        c.notes.append(f"{frames} frame(s) of {c.depth} interleaved codewords; frame failure: union bound")
+    c.codeword_failure = fig.get("codeword_failure", one)
+    c.block_failure = bsc.repeat_failure(one, frames)
+    c.parity_bytes = frames * model.parity_len(c.depth * c.chunk_bytes)
     c.table_bytes = p.table_bytes
     c.n, c.k, c.t, c.unit_bits, c.rate = p.n, p.k, p.t, p.unit_bits, p.rate
     return c

@@ -48,6 +48,9 @@ class Result:
 
 def channel_positions(model) -> np.ndarray:
     """Bit offsets in data || parity that the channel carries, for the full data length."""
+    if getattr(model, "depth", 1) > 1:         # an interleaved frame: every bit is sent, padding too
+        n = model.properties.data_bytes
+        return np.arange(8 * (n + model.parity_len(n)), dtype=np.int64)
     ub = model.properties.unit_bits
     units = np.asarray(model.error_units(model.properties.data_bytes), dtype=np.int64)
     return (units[:, None] + np.arange(ub, dtype=np.int64)[None, :]).ravel()
