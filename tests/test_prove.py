@@ -200,7 +200,7 @@ def test_resumed_run_gives_the_same_totals(specs, address, tmp_path):
         json.loads(line)["count"] for line in done[:len(done) // 2])
 
 
-def test_ctrl_c_stops_cleanly_and_the_state_resumes(address, tmp_path):
+def test_ctrl_c_stops_cleanly(tmp_path):
     """Ctrl-C on a terminal signals the whole process group: the default local cluster's workers ignore it,
     the client stops, shuts its cluster down and leaves no process behind."""
     # the 512-byte sector's code at data_len 4: 136 error bits, 410,040 patterns of weight 3
@@ -228,10 +228,15 @@ def test_ctrl_c_stops_cleanly_and_the_state_resumes(address, tmp_path):
         proc.wait()
     assert proc.returncode == cli.EXIT_INTERRUPTED, err
     assert "complete: false" in out and "interrupted" in err and "Traceback" not in err
-    cert = certify(flash, address, max_weight=3, data_len=4, state_file=str(state))
-    assert cert.resumed_shards >= 2 and cert.complete
-    # t = 8: every pattern of weight <= 3 is corrected (bounded-distance decoding)
-    assert rows(cert) == {w: (math.comb(136, w), math.comb(136, w), 0, 0, 0) for w in (1, 2, 3)}
+    # the state holds what the partial certificate counts (resuming from it: test_resumed_run_...)
+    records = [json.loads(line) for line in state.read_text().splitlines()]
+    done3 = [r for r in records if r.get("done") and r["weight"] == 3]
+    shard3 = next(r["shard"] for r in records if r.get("plan") and r["weight"] == 3)
+    assert 1 <= len(done3) < math.ceil(math.comb(136, 3) / shard3)          # really stopped half-way
+    # t = 8: every pattern of weight <= 3 that ran was corrected (bounded-distance decoding)
+    ran = sum(r["count"] for r in done3)
+    assert all(r["counts"] == [r["count"], 0, 0, 0] for r in done3)
+    assert f"       3        410,040 {ran:>14,}" in out
 
 
 def test_scheduler_and_worker_started_by_hand(specs, tmp_path, monkeypatch, capsys):
