@@ -9,12 +9,14 @@ from __future__ import annotations
 import argparse
 import json
 import os
+import shlex
+import shutil
 import signal
 import sys
 import threading
 from pathlib import Path
 
-from . import __version__, emit, harness, spec as specmod, verify
+from . import __version__, emit, harness, selftest, spec as specmod, verify
 from .codes import load_specs
 from .spec import show_path
 
@@ -64,7 +66,9 @@ def cmd_generate(args) -> int:
     if args.profile:
         specs = [s.with_profile(args.profile) for s in specs]
     outdir = Path(args.output)
-    outputs = emit.plan(specs, outdir)
+    vectors = args.self_test_vectors or (selftest.DEFAULT_VECTORS if args.self_test else None)
+    extra = (lambda model: selftest.render(model, vectors)) if vectors else None
+    outputs = emit.plan(specs, outdir, extra, selftest.TEMPLATES)
     if args.check:
         old = emit.stale(outputs)
         for path, why in old:
@@ -95,6 +99,8 @@ def cmd_generate(args) -> int:
 
 def cmd_verify(args) -> int:
     specs = _load_specs(args.specs)
+    if args.cc or args.cflags is not None or args.run:
+        return _verify_on_target(args, specs)
     reports = verify.run_specs(specs, seed=args.seed, budget=args.budget, profiles=args.profile,
                                announce=lambda text: _say(args, text))
     for report in reports:
@@ -102,6 +108,29 @@ def cmd_verify(args) -> int:
     if args.json:
         _deliver(args, [_json_output(args.json, [r.as_dict() for r in reports])])
     return EXIT_OK if all(r.ok for r in reports) else EXIT_FAILED
+
+
+def _verify_on_target(args, specs) -> int:
+    """verify --cc/--cflags/--run: the self-test cross-built, and run through --run's command."""
+    from . import target
+    cc = args.cc or harness.compiler()
+    try:
+        cflags = tuple(shlex.split(args.cflags or ""))
+        command = shlex.split(args.run) if args.run else None
+    except ValueError as err:
+        print(f"bitmend: --cflags/--run: {err}", file=sys.stderr)
+        return EXIT_BAD_INPUT
+    if shutil.which(cc) is None:
+        print(f"bitmend: --cc {cc}: no such compiler on PATH", file=sys.stderr)
+        return EXIT_BAD_INPUT
+    if command is not None and (not command or shutil.which(command[0]) is None):
+        print(f"bitmend: --run {args.run!r}: no such program on PATH", file=sys.stderr)
+        return EXIT_BAD_INPUT
+    outcomes = target.verify(specs, cc, cflags, command, args.profile, args.self_test_vectors)
+    _say(args, target.table(outcomes, cc, cflags, command))
+    if args.json:
+        _deliver(args, [_json_output(args.json, [o.as_dict() for o in outcomes])])
+    return EXIT_OK if all(o.ok for o in outcomes) else EXIT_FAILED
 
 
 def _channel(args):
@@ -235,6 +264,9 @@ def _check_args(args) -> str | None:
     budget = getattr(args, "budget", 1)
     if not 1 <= budget <= MAX_BUDGET:
         return f"--budget must be 1..{MAX_BUDGET} (got {budget})"
+    vectors = getattr(args, "self_test_vectors", None)
+    if vectors is not None and not 1 <= vectors <= selftest.MAX_VECTORS:
+        return f"--self-test-vectors must be 1..{selftest.MAX_VECTORS} (got {vectors})"
     seed = getattr(args, "seed", 0)
     if not 0 <= seed <= MAX_SEED:
         return f"--seed must be 0..2^64-1 (got {seed if abs(seed) < 10**30 else 'a huge number'})"
@@ -302,6 +334,10 @@ def parser() -> argparse.ArgumentParser:
                    help="also write a make rule: outputs depend on the specs, templates and bitmend's "
                         "version (- for stdout)")
     g.add_argument("--profile", choices=specmod.PROFILES, help="override every spec's [c] profile")
+    g.add_argument("--self-test", action="store_true",
+                   help="also write <name>_selftest.c/.h: known-answer vectors and int <name>_selftest(void)")
+    g.add_argument("--self-test-vectors", type=int, metavar="N",
+                   help=f"vectors in the self-test (default {selftest.DEFAULT_VECTORS}); implies --self-test")
     g.set_defaults(func=cmd_generate)
 
     v = sub.add_parser("verify", help="compile the C and compare it bit for bit with the model")
@@ -312,6 +348,14 @@ def parser() -> argparse.ArgumentParser:
     v.add_argument("--profile", action="append", choices=specmod.PROFILES,
                    help="profile(s) to verify (default: the spec's own); repeatable")
     v.add_argument("--json", metavar="FILE", help="also write the results as JSON (- for stdout)")
+    v.add_argument("--cc", metavar="CC", help="cross-build the module with its self-test and a tiny main "
+                   "with this compiler instead of the host proof (seed and budget then do not apply)")
+    v.add_argument("--cflags", metavar="FLAGS", help='flags for --cc, one string: "-mcpu=cortex-m4 -mthumb -O2"')
+    v.add_argument("--run", metavar="CMD", help='run the program through CMD (an emulator such as "qemu-arm '
+                   '-L /usr/arm-linux-gnueabihf", or a script that flashes a board) and report the self-test; '
+                   "without it the self-test is only built")
+    v.add_argument("--self-test-vectors", type=int, default=selftest.DEFAULT_VECTORS, metavar="N",
+                   help=f"vectors in the self-test for --cc/--run (default {selftest.DEFAULT_VECTORS})")
     v.set_defaults(func=cmd_verify)
 
     a = sub.add_parser("analyze", help="what the code buys on a channel (binary symmetric or bursty)")
@@ -386,9 +430,20 @@ def _terminate(signum, frame):
     raise _Terminated()
 
 
+def _glue(argv: list[str]) -> list[str]:
+    """`--cflags -O2` as `--cflags=-O2`: these options take a value that may start with a dash."""
+    out = []
+    it = iter(argv)
+    for arg in it:
+        if arg in ("--cflags", "--run"):
+            arg = f"{arg}={next(it, '')}"
+        out.append(arg)
+    return out
+
+
 def main(argv: list[str] | None = None) -> int:
     try:
-        args = parser().parse_args(argv)
+        args = parser().parse_args(_glue(sys.argv[1:] if argv is None else argv))
         problem = _check_args(args)
         if problem:
             parser().error(problem)

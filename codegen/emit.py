@@ -14,6 +14,7 @@ import os
 import re
 import signal
 import tempfile
+from collections.abc import Callable
 from dataclasses import dataclass
 from importlib import resources
 from pathlib import Path
@@ -77,10 +78,11 @@ def render(model: CodeModel, env: jinja2.Environment | None = None) -> dict[str,
     return out
 
 
-def template_files(model: CodeModel, env: jinja2.Environment | None = None) -> list[Path]:
-    """The template files a model's output is rendered from, includes and imports followed."""
+def template_files(model: CodeModel, env: jinja2.Environment | None = None,
+                   names: tuple[str, ...] | None = None) -> list[Path]:
+    """The template files a model's output is rendered from (or `names`), includes and imports followed."""
     env = env or environment()
-    todo = [f"{model.template}.{ext}.j2" for ext in ("h", "c")]
+    todo = list(names) if names is not None else [f"{model.template}.{ext}.j2" for ext in ("h", "c")]
     seen: dict[str, Path] = {}
     while todo:
         name = todo.pop()
@@ -97,8 +99,10 @@ def version_stamp() -> Path:
     return Path(resources.files("codegen") / "__init__.py")
 
 
-def plan(specs: list[Spec], outdir: Path) -> list[Output]:
-    """Every file the specs produce, rendered in memory; raises SpecError before anything is written."""
+def plan(specs: list[Spec], outdir: Path, extra: Callable[[CodeModel], dict[str, str]] | None = None,
+         extra_templates: tuple[str, ...] = ()) -> list[Output]:
+    """Every file the specs produce, rendered in memory; raises SpecError before anything is written.
+    `extra(model)` adds more files per model (the self-test), rendered from `extra_templates`."""
     problems: list[Problem] = []
     seen: dict[str, Spec] = {}
     models = []
@@ -118,7 +122,11 @@ def plan(specs: list[Spec], outdir: Path) -> list[Output]:
     outputs = []
     for model in models:
         sources = (Path(model.spec.path), *template_files(model, env), version_stamp())
-        for fname, text in render(model, env).items():
+        files = render(model, env)
+        if extra is not None:
+            sources += tuple(template_files(model, env, extra_templates))
+            files |= extra(model)
+        for fname, text in files.items():
             outputs.append(Output(outdir / fname, text, sources))
     return outputs
 
