@@ -133,6 +133,28 @@ def _verify_on_target(args, specs) -> int:
     return EXIT_OK if all(o.ok for o in outcomes) else EXIT_FAILED
 
 
+def cmd_footprint(args) -> int:
+    from . import footprint
+    specs = _load_specs(args.specs)
+    cc = args.cc or footprint.DEFAULT_CC
+    try:
+        cflags = tuple(shlex.split(args.cflags)) if args.cflags is not None else \
+            (footprint.DEFAULT_CFLAGS if args.cc is None else ())
+    except ValueError as err:
+        print(f"bitmend: --cflags: {err}", file=sys.stderr)
+        return EXIT_BAD_INPUT
+    if shutil.which(cc) is None:
+        print(f"bitmend: {'--cc ' if args.cc else ''}{cc}: no such compiler on PATH"
+              f"{'' if args.cc else ' (the default; give --cc)'}", file=sys.stderr)
+        return EXIT_BAD_INPUT
+    results = [footprint.measure(spec.with_profile(profile), cc, cflags)
+               for spec in specs for profile in (args.profile or specmod.PROFILES)]
+    _say(args, "\n\n".join(footprint.table(r) for r in results))
+    if args.json:
+        _deliver(args, [_json_output(args.json, [r.as_dict() for r in results])])
+    return EXIT_OK
+
+
 def _channel(args):
     from .channels import make
     return make(args.channel, args.flip_prob, args.burst_len, args.bad_flip, args.good_flip)
@@ -357,6 +379,16 @@ def parser() -> argparse.ArgumentParser:
     v.add_argument("--self-test-vectors", type=int, default=selftest.DEFAULT_VECTORS, metavar="N",
                    help=f"vectors in the self-test for --cc/--run (default {selftest.DEFAULT_VECTORS})")
     v.set_defaults(func=cmd_verify)
+
+    f = sub.add_parser("footprint", help="code, table and stack bytes of each module on a core")
+    f.add_argument("specs", nargs="+", metavar="SPEC")
+    f.add_argument("--cc", metavar="CC", help="compiler (default arm-none-eabi-gcc)")
+    f.add_argument("--cflags", metavar="FLAGS", help='flags, one string (default with the default compiler: '
+                   '"-mcpu=cortex-m0plus -mthumb -Os")')
+    f.add_argument("--profile", action="append", choices=specmod.PROFILES,
+                   help="profile(s) to measure (default all three); repeatable")
+    f.add_argument("--json", metavar="FILE", help="also write the figures as JSON (- for stdout)")
+    f.set_defaults(func=cmd_footprint)
 
     a = sub.add_parser("analyze", help="what the code buys on a channel (binary symmetric or bursty)")
     a.add_argument("specs", nargs="+", metavar="SPEC")
