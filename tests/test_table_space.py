@@ -104,7 +104,7 @@ int main(void)
 
 def test_crc32_check_value_with_the_table_in_flash(tmp_path):
     """CRC-32 of "123456789" is 0xCBF43926 (CRC RevEng catalogue, CRC-32/ISO-HDLC check value), computed
-    on an ATmega in simavr with the 1 KiB table read from flash by pgm_read_dword."""
+    on an ATmega in simavr with the table read from flash by pgm_read_dword."""
     need(AVR)
     spec = make_spec("""[code]
 name = "crc32"
