@@ -323,6 +323,9 @@ def _check_args(args) -> str | None:
     plot = getattr(args, "plot", None)
     if plot is not None and Path(plot).suffix.lower() not in (".png", ".svg"):
         return f"--plot must name a .png or .svg file (got {show_path(plot)})"
+    output = getattr(args, "output", None)
+    if getattr(args, "command", None) == "generate" and os.path.exists(output) and not os.path.isdir(output):
+        return f"-o {show_path(output)} is not a folder"
     for option in ("json", "depfile"):
         value = getattr(args, option, None)
         if value is not None and value != STDOUT and os.path.isdir(value):

@@ -171,6 +171,7 @@ def test_non_utf8_file_names(tmp_path):
     (["analyze", "{spec}", "--flip-prob", "nan"], "--flip-prob must be in (0, 0.5)"),
     (["verify", "{spec}", "--seed", "1" * 5000], "invalid int value"),
     (["verify", "{spec}", "--json", "{tmp}"], "is a folder"),
+    (["generate", "{spec}", "-o", "{spec}"], "is not a folder"),
     (["analyze", "{spec}", "--flip-prob", "0.01", "--plot", "x\x1b[2J.pdf"], "x\\x1b[2J.pdf"),
 ])
 def test_bad_option_values(tmp_path, capsys, args, expect):
