@@ -133,7 +133,7 @@ class _Runner:
         self.job, self.fn, self.ffi = job, module.fn("prove_shard"), ffi
         self.words = ffi.new("uint8_t[]", job.words)
         self.units = ffi.new("uint32_t[]", list(job.units))
-        self.scratch_len = 3 * GUARD + 3 * (job.data_len + job.parity_len)
+        self.scratch_len = (CODEWORDS + 2) * (GUARD + job.data_len + job.parity_len)
         self.scratch = ffi.new("uint8_t[]", self.scratch_len)
         self.counts = ffi.new("uint64_t[4]")
         self.failed = ffi.new("uint64_t[]", MAX_FAILED)
