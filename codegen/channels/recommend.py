@@ -135,8 +135,9 @@ DEPTHS = (1, 2, 4, 8, 16, 32, 64)       # interleaving depths tried where the ch
 
 
 def _layouts(data_bytes: int, ch: Channel, fewest: int):
-    """(codewords, depth, frames) to try: every split, and under a channel with memory each split rounded
-    up to whole frames of every depth (interleaving buys nothing on independent flips)."""
+    """(codewords, depth, data bytes per codeword) to try: every split, and under a channel with memory
+    each split rounded up to whole frames of every depth up to four times its codeword count (a frame of
+    more, shorter codewords; interleaving buys nothing on independent flips)."""
     seen = set()
     for count in splits(data_bytes, 1, fewest):
         for depth in (DEPTHS if ch.kind != "bsc" else (1,)):
