@@ -144,6 +144,26 @@ class Field:
                     out[i + j] ^= self.mul(ca, cb)
         return out
 
+    def quadratic_solver(self) -> list[tuple[int, int, int]]:
+        """A way to solve y^2 + y = c: the map L(y) = y^2 + y is linear over GF(2) (its kernel is {0, 1}),
+        so Gaussian elimination on the images L(alpha^k) gives m - 1 rows (pivot bit, image, preimage),
+        pivots highest first.  Reducing c by the rows in order (XOR a row's image into c when c has its
+        pivot bit, and its preimage into y) leaves c = 0 exactly when c = L(y); then y and y + 1 are the
+        solutions."""
+        rows = []
+        for k in range(self.m):
+            y = 1 << k
+            v = self.mul(y, y) ^ y
+            for bit, image, pre in rows:
+                if v & bit:
+                    v ^= image
+                    y ^= pre
+            if v:
+                bit = 1 << (v.bit_length() - 1)
+                rows = [(b, i ^ v, p ^ y) if i & bit else (b, i, p) for b, i, p in rows]
+                rows.append((bit, v, y))
+        return sorted(rows, reverse=True)
+
     def minimal_polynomial(self, i: int) -> int:
         """Minimal polynomial over GF(2) of alpha^i, as a binary polynomial."""
         poly = [1]
@@ -157,59 +177,51 @@ class Field:
 STEP_BITS = 32             # data bits per step of the word-wide remainder (one 32-bit word of data)
 
 
-def sliced_remainder_tables(block_remainder, chunk_bits: int, words: int) -> list[int]:
-    """Tables of a remainder register that takes STEP_BITS data bits per step, for any division that is
-    linear over GF(2) (binary BCH, and Reed-Solomon over GF(2^m), alike).
+def chunk_widths(words: int, budget: int) -> list[int]:
+    """How a 32-bit step splits into table indexes, most significant chunk first: the fewest chunks (four
+    bytes at best) whose tables of 2^width rows of `words` words fit `budget` bytes; widths as equal as
+    can be, wider ones first."""
+    for count in range(STEP_BITS // 8, STEP_BITS + 1):
+        base, extra = divmod(STEP_BITS, count)
+        widths = [base + 1] * extra + [base] * (count - extra)
+        if sum(1 << w for w in widths) * 4 * words <= budget:
+            return widths
+    return [1] * STEP_BITS
 
-    The register holds the remainder left-aligned in `words` 32-bit words.  One step with data word D:
-    register' = (register shifted up by STEP_BITS) xor F(top word of register xor D), where
-    F(u) = block_remainder(u) is the register after the block u enters a zero register.  F is linear, so
-    it is the XOR of one table row per chunk of `chunk_bits` bits of u: table c (c = 0 for the most
-    significant chunk), row v = F(v << (STEP_BITS - chunk_bits * (c + 1))).  The rows are stored word by
-    word: plane w holds word w (most significant first) of every row, so word w of row v of table c is at
-    (w * chunks + c) * 2^chunk_bits + v, chunks = STEP_BITS // chunk_bits; one index then serves every
-    word of a row.  Only the STEP_BITS single-bit images are computed by division; every other row is an
-    XOR of them.
+
+def step_context(block_remainder, words: int, unrolled: bool, budget: int) -> dict:
+    """What templates/_gf.j2 prints for a word-wide remainder of `words` 32-bit words, for any division
+    that is linear over GF(2) (binary BCH, and Reed-Solomon over GF(2^m), alike).
+
+    The register holds the remainder left-aligned in `words` words.  One step with a data word D (32
+    message bits, the first in the top bit): register' = (register shifted up a word) xor F(top word of
+    register xor D), where F(u) = block_remainder(u) is the register after the block u enters a zero
+    register.  F is linear, so it is the XOR of one row per chunk of u (chunk_widths): the chunk with its
+    lowest bit at `low` and value v gives the row F(v << low).  A step of fewer bits (a last byte, or the
+    tail bits of a message) uses the rows of the chunks below bit 8 the same way.  Rows are stored word by
+    word: plane w holds word w (most significant first) of every row, so one index serves every word.
+    Only the 32 single-bit images are computed by division; every other row is an XOR of them.
     """
     unit = [block_remainder(1 << b) for b in range(STEP_BITS)]
-    rows = []
-    chunks = STEP_BITS // chunk_bits
-    for c in range(chunks):
-        low = STEP_BITS - chunk_bits * (c + 1)
-        for v in range(1 << chunk_bits):
+    chunks, rows, low = [], [], STEP_BITS
+    for width in chunk_widths(words, budget):
+        low -= width
+        chunks.append({"shift": low, "mask": (1 << width) - 1, "base": len(rows)})
+        for v in range(1 << width):
             value = 0
-            for b in range(chunk_bits):
+            for b in range(width):
                 if v >> b & 1:
                     value ^= unit[low + b]
             rows.append(value)
-    return [(value >> (32 * (words - 1 - w))) & 0xFFFFFFFF for w in range(words) for value in rows]
-
-
-def step_chunk_bits(words: int, budget: int = 16384) -> int:
-    """Index width of the step tables: bytes while their STEP_BITS // 8 tables of 256 rows fit `budget`
-    bytes, else nibbles (twice the lookups, a sixteenth of the rows)."""
-    return 8 if (STEP_BITS // 8) * 256 * 4 * words <= budget else 4
-
-
-def step_context(block_remainder, words: int, unrolled: bool) -> dict:
-    """What templates/_gf.j2 prints for a word-wide remainder of `words` 32-bit words: the tables
-    (sliced_remainder_tables), each chunk's shift, mask and first row, and each word's plane."""
-    chunk = step_chunk_bits(words)
-    chunks = STEP_BITS // chunk
-    rows = chunks << chunk                      # rows per plane
-    mask = (1 << chunk) - 1
     return {
-        "table": sliced_remainder_tables(block_remainder, chunk, words),
-        "chunk_bits": chunk,
+        "table": [(value >> (32 * (words - 1 - w))) & 0xFFFFFFFF for w in range(words) for value in rows],
+        "widths": chunk_widths(words, budget),
         "words": words,
         "last": words - 1,
         "unrolled": unrolled,
-        "plane": rows,
-        "planes": [{"i": w, "next": w + 1, "last": w == words - 1, "offset": w * rows} for w in range(words)],
-        # a 32-bit step: every chunk of the word, most significant first
-        "chunks": [{"shift": STEP_BITS - chunk * (c + 1), "mask": mask, "base": c << chunk} for c in range(chunks)],
-        # a step of up to 8 bits: the rows of the last byte's chunk(s), whose images are v(x) * x^r itself
-        "tail": [{"shift": 8 - chunk * (c + 1), "mask": mask, "base": (chunks - 8 // chunk + c) << chunk}
-                 for c in range(8 // chunk)],
+        "plane": len(rows),
+        "planes": [{"i": w, "next": w + 1, "last": w == words - 1, "offset": w * len(rows)} for w in range(words)],
+        "chunks": chunks,                                   # a 32-bit step: every chunk
+        "tail": [c for c in chunks if c["shift"] < 8],      # a step of up to 8 bits
         "rest": {b: STEP_BITS - b for b in range(1, 9)},
     }

@@ -150,6 +150,19 @@ METER_READING_TABLE_ATTR static const meter_reading_gf_t meter_reading_log[256] 
 #define METER_READING_EXP(i) METER_READING_TABLE_READ8(meter_reading_exp, i)
 #define METER_READING_LOG(x) METER_READING_TABLE_READ8(meter_reading_log, x)
 
+/* Rows of the linear map y -> y^2 + y of GF(2^8) in reduced echelon form (pivot bit, image, a preimage),
+ * from Gaussian elimination in the bitmend model: a degree-2 locator is solved directly. */
+#define METER_READING_QUAD_ROWS 7u
+METER_READING_TABLE_ATTR static const meter_reading_gf_t meter_reading_quad_bit[7] = {
+    0x80u, 0x40u, 0x20u, 0x10u, 0x04u, 0x02u, 0x01u
+};
+METER_READING_TABLE_ATTR static const meter_reading_gf_t meter_reading_quad_image[7] = {
+    0x88u, 0x48u, 0x28u, 0x10u, 0x04u, 0x02u, 0x01u
+};
+METER_READING_TABLE_ATTR static const meter_reading_gf_t meter_reading_quad_pre[7] = {
+    0xBEu, 0x08u, 0xFCu, 0x9Au, 0x9Eu, 0x9Cu, 0xEAu
+};
+
 /* -- remainder of (message * x^r) mod g(x) ------------------------------------------------------------ */
 
 /* reg = (message * x^r) mod g(x), left-aligned, for the data bits of data[0..data_len). */
@@ -236,29 +249,34 @@ static meter_reading_gf_t meter_reading_div(meter_reading_gf_t a, meter_reading_
  * g(alpha^j) = 0); S_2i = S_i^2 for a binary word. */
 static void meter_reading_syndromes(const meter_reading_word_t reg[METER_READING_WORDS], meter_reading_gf_t synd[METER_READING_TWO_T])
 {
-    meter_reading_gf_t acc;
     uint32_t j;
     uint32_t q;
+    uint32_t d;
+    uint32_t d2;
     uint32_t e;
 
-    for (j = 1; j <= METER_READING_TWO_T; j++) {
-        if ((j & 1u) == 0u) {
-            synd[j - 1u] = meter_reading_mul(synd[j / 2u - 1u], synd[j / 2u - 1u]);
+    for (j = 0; j < METER_READING_TWO_T; j++) {
+        synd[j] = 0;
+    }
+    /* one pass over the set bits: bit q from the top has degree d = r - 1 - q and adds alpha^(j d) to
+     * every odd S_j, the exponent growing by 2d mod 2^m - 1 from one odd j to the next */
+    for (q = 0; q < METER_READING_RBITS; q++) {
+        if (((reg[q >> 5] >> (31u - (q & 31u))) & 1u) == 0u) {
             continue;
         }
-        acc = 0;
-        /* sum of alpha^(j * degree) over the set bits; bit q from the top has degree r - 1 - q */
-        e = 0;
-        for (q = METER_READING_RBITS; q > 0u; q--) {
-            if (((reg[(q - 1u) >> 5] >> (31u - ((q - 1u) & 31u))) & 1u) != 0u) {
-                acc = (meter_reading_gf_t)(acc ^ METER_READING_EXP(e));
-            }
-            e += j;
+        d = METER_READING_RBITS - 1u - q;
+        d2 = d + d >= METER_READING_ORDER ? d + d - METER_READING_ORDER : d + d;
+        e = d;
+        for (j = 0; j < METER_READING_TWO_T; j += 2u) {
+            synd[j] = (meter_reading_gf_t)(synd[j] ^ METER_READING_EXP(e));
+            e += d2;
             if (e >= METER_READING_ORDER) {
                 e -= METER_READING_ORDER;
             }
         }
-        synd[j - 1u] = acc;
+    }
+    for (j = 2; j <= METER_READING_TWO_T; j += 2u) {
+        synd[j - 1u] = meter_reading_mul(synd[j / 2u - 1u], synd[j / 2u - 1u]);
     }
 }
 
@@ -340,6 +358,8 @@ static unsigned meter_reading_roots(const meter_reading_gf_t c[METER_READING_T +
     uint32_t power[METER_READING_SLOTS];  /* i: the growth of that exponent as p steps down */
     meter_reading_gf_t acc[METER_READING_BLOCK];   /* q(alpha^-p) for the positions of one pass */
     meter_reading_gf_t start = 1;
+    meter_reading_gf_t c2;
+    meter_reading_gf_t y;
     uint32_t e0, e1, e2, e3;
     uint32_t next = nbits;                  /* positions next - 1 down to 0 are still to search */
     uint32_t top;
@@ -363,6 +383,37 @@ static unsigned meter_reading_roots(const meter_reading_gf_t c[METER_READING_T +
         if (degree == 1u) {
             /* q(x) = 1 + q1 x has its root at alpha^-p with alpha^p = q1: found if p is still to search */
             e = METER_READING_LOG(q[1]);
+            if (e <= top) {
+                where[found] = (meter_reading_pos_t)e;
+                found++;
+            }
+            break;
+        }
+        if (degree == 2u) {
+            /* q(x) = 1 + q1 x + q2 x^2 vanishes at X^-1 where X^2 + q1 X + q2 = 0; X = q1 y turns that into
+             * y^2 + y = c = q2 / q1^2, solved by reducing c with the rows of the linear map y^2 + y.  No
+             * solution, or q1 = 0 (a double root), leaves the roots unfound: the word is not decodable. */
+            if (q[1] == 0u) {
+                break;
+            }
+            c2 = meter_reading_div(q[2], meter_reading_mul(q[1], q[1]));
+            y = 0;
+            for (i = 0; i < METER_READING_QUAD_ROWS; i++) {
+                if ((c2 & METER_READING_TABLE_READ8(meter_reading_quad_bit, i)) != 0u) {
+                    c2 = (meter_reading_gf_t)(c2 ^ METER_READING_TABLE_READ8(meter_reading_quad_image, i));
+                    y = (meter_reading_gf_t)(y ^ METER_READING_TABLE_READ8(meter_reading_quad_pre, i));
+                }
+            }
+            if (c2 != 0u) {
+                break;
+            }
+            y = meter_reading_mul(q[1], y);                      /* X and X + q1, both non-zero */
+            e = METER_READING_LOG(y);
+            if (e <= top) {
+                where[found] = (meter_reading_pos_t)e;
+                found++;
+            }
+            e = METER_READING_LOG(y ^ q[1]);
             if (e <= top) {
                 where[found] = (meter_reading_pos_t)e;
                 found++;

@@ -43,3 +43,25 @@ def test_minimal_polynomials_match_galois():
 def test_non_primitive_rejected():
     with pytest.raises(ValueError):
         gf.Field(8, 0x11B)
+
+
+@pytest.mark.parametrize("m,poly", [(6, 0x43), (7, 0x89)])
+def test_quadratic_solver_against_galois(m, poly):
+    # y^2 + y = c has a solution exactly when the absolute trace of c is 0 (galois field_trace); the
+    # solver's y must satisfy the equation in galois's arithmetic.
+    f = gf.Field(m, poly)
+    GF = galois.GF(2**m, irreducible_poly=galois.Poly.Int(poly))
+    rows = f.quadratic_solver()
+    assert len(rows) == m - 1
+    solvable = 0
+    for c in range(1 << m):
+        y, rest = 0, c
+        for bit, image, pre in rows:
+            if rest & bit:
+                rest ^= image
+                y ^= pre
+        assert (rest == 0) == (int(GF(c).field_trace()) == 0), c
+        if rest == 0:
+            solvable += 1
+            assert GF(y) ** 2 + GF(y) == GF(c), c
+    assert solvable == 1 << (m - 1)

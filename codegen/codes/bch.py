@@ -30,6 +30,7 @@ from ..spec import Spec, SpecError
 from .base import ERR_LENGTH, ERR_UNCORRECTABLE, CodeModel, Properties, ctype_bytes
 
 WORD_BITS = 32            # the C holds the remainder in uint32_t words, left-aligned
+STEP_TABLE_BYTES = 16384    # the fast profile's word-wide remainder tables at most (4 byte-wide ones for 104 bits)
 UNROLL_WORDS = 8          # up to this many words the C keeps the remainder in scalar locals (registers)
 
 
@@ -121,13 +122,16 @@ class Bch(CodeModel):
         self.term_slots = (t + 3) // 4 * 4
         self.unrolled = self.reg_words <= UNROLL_WORDS
         self._log_np = self.field.log.copy()
+        self._step = None
+        # the direct solution of a degree-2 locator (t >= 2 only): gf.Field.quadratic_solver's rows
+        self._quad = self.field.quadratic_solver() if t >= 2 else []
 
     # -- description -----------------------------------------------------------------------------------
     def table_bytes_for(self, profile: str) -> int:
         es = ctype_bytes(self.gf_ctype)
-        gf = (self.order + self.exp_extra + (self.order + 1)) * es     # exp[n + extra], log[n + 1]
+        gf = (self.order + self.exp_extra + (self.order + 1) + 3 * len(self._quad)) * es   # exp, log, quad rows
         word = WORD_BITS // 8 * self.reg_words
-        return {"fast": 256 * word + gf, "small": 16 * word + gf, "tiny": word}[profile]
+        return {"fast": 4 * len(self.step()["table"]) + gf, "small": 16 * word + gf, "tiny": word}[profile]
 
     @property
     def properties(self) -> Properties:
@@ -160,7 +164,9 @@ class Bch(CodeModel):
             roots = t * es + 2 * t                                           # term, power
         else:
             roots = (t + 1) * es + 2 * 4 * self.term_slots + self.chien_block * es   # q, expo, power, acc
-        return decode + locator + roots
+        # the fast remainder keeps its register in an array when it is too long for scalar locals
+        remainder = 4 * self.reg_words if self.spec.profile == "fast" and not self.unrolled else 0
+        return decode + locator + roots + remainder
 
     # -- the reference -----------------------------------------------------------------------------------
     def remainder(self, data: bytes) -> int:
@@ -293,6 +299,12 @@ class Bch(CodeModel):
         v = value << (total - self.r)
         return [(v >> (total - WORD_BITS * (w + 1))) & 0xFFFFFFFF for w in range(self.reg_words)]
 
+    def step(self) -> dict:
+        """The fast profile's word-wide remainder (templates/_gf.j2), built once."""
+        if self._step is None:
+            self._step = step_context(self.block_remainder, self.reg_words, self.unrolled, STEP_TABLE_BYTES)
+        return self._step
+
     def block_remainder(self, u: int) -> int:
         """(u(x) * x^r) mod g(x) for a 32-bit block u of message bits, left-aligned in reg_words words: the
         image the fast profile's word-wide step tables are built from (gf.step_context)."""
@@ -342,9 +354,8 @@ class Bch(CodeModel):
             "generator": self.generator,
             "generator_bits": self.r + 1,
             "gen_words": self._aligned_words(self.generator & self._mask),
-            "rem_table": self.rem_table(8) if profile == "fast" else (self.rem_table(4) if profile == "small"
-                                                                     else []),
-            "rem_index_bits": 8 if profile == "fast" else 4,
+            "rem_table": self.rem_table(4) if profile == "small" else [],
+            "step": self.step() if profile == "fast" else None,
             "exp_table": (self._exp + self._exp[:self.exp_extra]) if profile != "tiny" else [],
             "exp_extra": self.exp_extra,
             "chien_block": self.chien_block,
@@ -354,6 +365,10 @@ class Bch(CodeModel):
             "main_bits": {"fast": 8, "small": 4, "tiny": 1}[profile],
             "main_shift": WORD_BITS - {"fast": 8, "small": 4, "tiny": 1}[profile],
             "log_table": self._log if profile != "tiny" else [],
+            # the rows of the direct solution of a degree-2 locator, as three tables
+            "quad_bits": [b for b, _, _ in self._quad] if profile != "tiny" else [],
+            "quad_images": [i for _, i, _ in self._quad] if profile != "tiny" else [],
+            "quad_pres": [p for _, _, p in self._quad] if profile != "tiny" else [],
             "table_bytes_fast": self.table_bytes_for("fast"),
             "table_bytes_small": self.table_bytes_for("small"),
             "table_bytes_tiny": self.table_bytes_for("tiny"),
