@@ -84,11 +84,6 @@ BEACON_TELEMETRY_TABLE_ATTR static const uint8_t beacon_telemetry_log[256] = {
 #define BEACON_TELEMETRY_EXP(i) BEACON_TELEMETRY_TABLE_READ8(beacon_telemetry_exp, i)
 #define BEACON_TELEMETRY_LOG(x) BEACON_TELEMETRY_TABLE_READ8(beacon_telemetry_log, x)
 
-/* root_log[i] = log_alpha of beta^(first_root + i), the generator's roots, i = 0..7. */
-BEACON_TELEMETRY_TABLE_ATTR static const uint8_t beacon_telemetry_root_log[8] = {
-    0x01u, 0x02u, 0x03u, 0x04u, 0x05u, 0x06u, 0x07u, 0x08u
-};
-
 /* -- GF(2^8) arithmetic ------------------------------------------------------------------------------ */
 
 /* alpha^i for 0 <= i < 510. */
@@ -211,24 +206,35 @@ int beacon_telemetry_check(const uint8_t *data, size_t data_len, const uint8_t *
 
 /* -- decoder ----------------------------------------------------------------------------------------- */
 
-/* S_i = R(beta^(first_root + i)) by Horner's rule, R = the received word's remainder mod g(x) (its
- * syndromes equal the word's, since g vanishes at every root).  The 8 evaluations run side by side,
- * one remainder symbol at a time, so they do not wait on each other. */
+/* S_i = R(beta^(first_root + i)), R = the received word's remainder mod g(x) (its syndromes equal the
+ * word's, since g vanishes at every root): the sum over the remainder's non-zero symbols r of degree d of
+ * r * beta^(d (first_root + i)).  Logs only: per symbol a start log(r) + d log(beta^first_root) and a step
+ * d log(beta), both carried from d to d + 1 by one addition mod 255. */
 static void beacon_telemetry_syndromes(const uint8_t rem[BEACON_TELEMETRY_NROOTS], uint8_t synd[BEACON_TELEMETRY_NROOTS])
 {
+    unsigned start = 0;
+    unsigned step = 0;
+    unsigned e;
     unsigned i;
     unsigned j;
-    uint8_t s;
 
     for (i = 0; i < BEACON_TELEMETRY_NROOTS; i++) {
-        synd[i] = rem[0];
+        synd[i] = 0u;
     }
-    for (j = 1; j < BEACON_TELEMETRY_NROOTS; j++) {
-        for (i = 0; i < BEACON_TELEMETRY_NROOTS; i++) {
-            s = synd[i];
-            s = s == 0u ? (uint8_t)0u : beacon_telemetry_exp_of((unsigned)BEACON_TELEMETRY_LOG(s) + BEACON_TELEMETRY_TABLE_READ8(beacon_telemetry_root_log, i));
-            synd[i] = (uint8_t)(s ^ rem[j]);
+    for (j = BEACON_TELEMETRY_NROOTS; j > 0u; j--) {            /* rem[j - 1] has degree d = NROOTS - j */
+        if (rem[j - 1u] != 0u) {
+            e = (unsigned)BEACON_TELEMETRY_LOG(rem[j - 1u]) + start;
+            e = e >= BEACON_TELEMETRY_ORDER ? e - BEACON_TELEMETRY_ORDER : e;
+            for (i = 0; i < BEACON_TELEMETRY_NROOTS; i++) {
+                synd[i] = (uint8_t)(synd[i] ^ beacon_telemetry_exp_of(e));
+                e += step;
+                e = e >= BEACON_TELEMETRY_ORDER ? e - BEACON_TELEMETRY_ORDER : e;
+            }
         }
+        start += BEACON_TELEMETRY_FR_LOG;
+        start = start >= BEACON_TELEMETRY_ORDER ? start - BEACON_TELEMETRY_ORDER : start;
+        step += BEACON_TELEMETRY_BETA_LOG;
+        step = step >= BEACON_TELEMETRY_ORDER ? step - BEACON_TELEMETRY_ORDER : step;
     }
 }
 

@@ -34,6 +34,8 @@ from .base import ERR_ARG, ERR_LENGTH, ERR_UNCORRECTABLE, FRAME_BYTES, CodeModel
 TABLE = "reed-solomon"
 SYMBOL_BITS = 8
 ORDER = (1 << SYMBOL_BITS) - 1          # 255: the multiplicative group order
+STEP_TABLE_BYTES = 14336                 # encoder tables at most: with exp and log the fast profile stays within 16 KiB
+UNROLL_WORDS = 8                        # up to this many encoder words live in scalar locals (registers)
 ZERO_LOG = 255                          # marks a zero coefficient in log-domain tables (logs are 0..254)
 
 
@@ -82,13 +84,14 @@ class ReedSolomon(CodeModel):
         # parity of a single symbol 1 at data position j of a full-length block: x^(n-1-j) mod g(x)
         self._unit_parity_log = self._unit_parity_logs()
         self._tables = None
+        self._step = None
 
     # -- description -----------------------------------------------------------------------------------
     @property
     def properties(self) -> Properties:
         return Properties(n=self.n, k=self.k, t=self.t, d=self.nroots + 1, unit_bits=SYMBOL_BITS,
                           data_bytes=self.k, parity_bytes=self.nroots,
-                          table_bytes=sum(len(v) * (4 if name == "gen_mul" else 1)
+                          table_bytes=sum(len(v) * (4 if name == "step" else 1)
                                           for name, v in self.c_tables().items()))
 
     def data_lengths(self) -> range:
@@ -266,8 +269,8 @@ class ReedSolomon(CodeModel):
 
     # -- rendering -------------------------------------------------------------------------------------------
     def c_tables(self) -> dict[str, list[int]]:
-        """The constant tables of the generated C for the spec's profile, by C name suffix: gen_mul is
-        uint64_t, every other table uint8_t."""
+        """The constant tables of the generated C for the spec's profile, by C name suffix: step is
+        uint32_t, every other table uint8_t."""
         if self._tables is None:
             self._tables = self._build_tables()
         return self._tables
@@ -278,30 +281,30 @@ class ReedSolomon(CodeModel):
             return {"gen": self.generator[1:]}
         tables = {}
         if prof == "fast":
-            # row f: f * g_1 .. f * g_(n-k), the LFSR update for feedback symbol f, packed into 32-bit
-            # words, first symbol in the top byte, zero-padded at the end
-            words = []
-            for f in range(256):
-                row = bytes(self._mul(f, g) for g in self.generator[1:]) + bytes(4 * self.words - self.nroots)
-                words.extend(int.from_bytes(row[i:i + 4], "big") for i in range(0, len(row), 4))
-            tables["gen_mul"] = words
+            tables["step"] = self.step()["table"]
             tables["exp"] = self._exp[:2 * ORDER]
         else:
             tables["gen_log"] = [ZERO_LOG if lg is None else lg for lg in self._gen_logs[1:]]
             tables["exp"] = self._exp[:ORDER]
         tables["log"] = [0] + self._log[1:]
-        tables["root_log"] = list(self.root_logs)
         return tables
+
+    def step(self) -> dict:
+        """The fast profile's word-wide encoder (templates/_gf.j2), built once."""
+        if self._step is None:
+            self._step = step_context(self.block_remainder, self.words, self.words <= UNROLL_WORDS,
+                                      STEP_TABLE_BYTES)
+        return self._step
 
     def block_remainder(self, u: int) -> int:
         """(u(x) * x^(n-k)) mod g(x) for a block u of four symbols (the first in the top byte), left-aligned
-        in words32 32-bit words: the image the fast profile's word-wide step tables are built from
+        in words 32-bit words: the image the fast profile's word-wide step tables are built from
         (gf.step_context)."""
         rem = self.long_division_parity(u.to_bytes(4, "big"))
-        return int.from_bytes(rem + bytes(4 * self.words32 - self.nroots), "big")
+        return int.from_bytes(rem + bytes(4 * self.words - self.nroots), "big")
 
     @property
-    def words32(self) -> int:
+    def words(self) -> int:
         """32-bit words of the fast encoder's register."""
         return (self.nroots + 3) // 4
 
@@ -311,17 +314,12 @@ class ReedSolomon(CodeModel):
         r = self.nroots
         correct = 5 * r + (r + 1)                      # rem, synd, where, odd_part, value; lam
         callees = [
-            4 * self.words if self.spec.profile == "fast" else 0,   # remainder(): register words
+            (4 if self.words <= UNROLL_WORDS else 8) * self.words if self.spec.profile == "fast" else 0,  # remainder()
             r + 1,                                                  # berlekamp(): b
             4 * self.half_roots if self.spec.profile == "tiny" else 10 * r + 4,  # chien(): terms, steps
             r,                                                      # forney(): omega
         ]
         return correct + max(callees)
-
-    @property
-    def words(self) -> int:
-        """32-bit words of the fast encoder's register."""
-        return (self.nroots + 3) // 4
 
     @property
     def half_roots(self) -> int:
@@ -343,6 +341,7 @@ class ReedSolomon(CodeModel):
             "root_step": self.root_step,
             "generator": self.generator,
             "tables": tables,
+            "step": self.step() if self.spec.profile == "fast" else None,
             "table_sizes": {k: len(v) for k, v in tables.items()},
             # log_alpha of beta^-1 (Chien step per degree), of beta^first_root (Forney), and the
             # field elements the tiny profile starts from
