@@ -1416,11 +1416,11 @@ static void archive_block_forney(const uint8_t synd[ARCHIVE_BLOCK_NROOTS], const
         p = where[f];
         xl = archive_block_mod255(p * ARCHIVE_BLOCK_BETA_INV_LOG);
         acc = om[deg - 1u];
-        for (i = deg - 1u; i >= 1u; i--) {
+        for (j = 1; j < deg; j++) {            /* Horner from the top; counting up keeps avr-gcc 5 -O3 quiet */
             if (acc != 0u) {
                 acc = archive_block_exp_of((unsigned)ARCHIVE_BLOCK_LOG(acc) + xl);
             }
-            acc = (uint8_t)(acc ^ om[i - 1u]);
+            acc = (uint8_t)(acc ^ om[deg - 1u - j]);
         }
         if (acc == 0u) {
             value[f] = 0u;

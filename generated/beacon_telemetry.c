@@ -415,11 +415,11 @@ static void beacon_telemetry_forney(const uint8_t synd[BEACON_TELEMETRY_NROOTS],
         p = where[f];
         xl = beacon_telemetry_mod255(p * BEACON_TELEMETRY_BETA_INV_LOG);
         acc = om[deg - 1u];
-        for (i = deg - 1u; i >= 1u; i--) {
+        for (j = 1; j < deg; j++) {            /* Horner from the top; counting up keeps avr-gcc 5 -O3 quiet */
             if (acc != 0u) {
                 acc = beacon_telemetry_exp_of((unsigned)BEACON_TELEMETRY_LOG(acc) + xl);
             }
-            acc = (uint8_t)(acc ^ om[i - 1u]);
+            acc = (uint8_t)(acc ^ om[deg - 1u - j]);
         }
         if (acc == 0u) {
             value[f] = 0u;

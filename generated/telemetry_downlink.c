@@ -1424,11 +1424,11 @@ static void telemetry_downlink_forney(const uint8_t synd[TELEMETRY_DOWNLINK_NROO
         p = where[f];
         xl = telemetry_downlink_mod255(p * TELEMETRY_DOWNLINK_BETA_INV_LOG);
         acc = om[deg - 1u];
-        for (i = deg - 1u; i >= 1u; i--) {
+        for (j = 1; j < deg; j++) {            /* Horner from the top; counting up keeps avr-gcc 5 -O3 quiet */
             if (acc != 0u) {
                 acc = telemetry_downlink_exp_of((unsigned)TELEMETRY_DOWNLINK_LOG(acc) + xl);
             }
-            acc = (uint8_t)(acc ^ om[i - 1u]);
+            acc = (uint8_t)(acc ^ om[deg - 1u - j]);
         }
         if (acc == 0u) {
             value[f] = 0u;
