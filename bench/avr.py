@@ -13,7 +13,7 @@ from dataclasses import replace
 
 from common import emitted
 
-from codegen.codes import build
+from bitmend.codes import build
 
 MCU = "atmega1284p"            # 128 KiB flash, 16 KiB RAM
 CFLAGS = ("-std=c99", "-Os")   # what AVR firmware is built with

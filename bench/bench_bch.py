@@ -14,9 +14,9 @@ import numpy as np
 import avr
 from common import ROOT, best_seconds, codec_drivers, per_byte, table
 
-from codegen import spec as specmod  # noqa: E402
-from codegen.codes import build  # noqa: E402
-from codegen.verify import apply_errors, module_for  # noqa: E402
+from bitmend import spec as specmod  # noqa: E402
+from bitmend.codes import build  # noqa: E402
+from bitmend.verify import apply_errors, module_for  # noqa: E402
 
 CODES = [ROOT / "examples" / "flash_page.toml", ROOT / "examples" / "meter_reading.toml"]
 WORDS = 32                 # distinct t-error words, each decoded by the C

@@ -7,8 +7,8 @@ import numpy as np
 import avr
 from common import best_seconds, callgrind_instructions, table
 
-from codegen import emit, harness, spec as specmod  # noqa: E402
-from codegen.codes import build  # noqa: E402
+from bitmend import emit, harness, spec as specmod  # noqa: E402
+from bitmend.codes import build  # noqa: E402
 
 # Parameters and check values: the published CRC catalogue (CRC-32/ISO-HDLC, CRC-16/IBM-3740).
 CODES = {

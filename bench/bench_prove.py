@@ -16,9 +16,9 @@ from pathlib import Path
 sys.path.insert(0, str(Path(__file__).resolve().parent))
 from common import ROOT, table  # noqa: E402
 
-from codegen import harness, spec as specmod  # noqa: E402
-from codegen.codes import build  # noqa: E402
-from codegen.prove_driver import CODEWORDS, make_job, runner, shard_decl  # noqa: E402
+from bitmend import harness, spec as specmod  # noqa: E402
+from bitmend.codes import build  # noqa: E402
+from bitmend.prove_driver import CODEWORDS, make_job, runner, shard_decl  # noqa: E402
 
 EXAMPLES = ["flash_page", "meter_reading", "beacon_telemetry", "mem_word"]
 WEIGHT = 2

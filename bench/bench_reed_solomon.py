@@ -13,9 +13,9 @@ import numpy as np
 import avr
 from common import ROOT, best_seconds, codec_drivers, per_byte, table
 
-from codegen import spec as specmod  # noqa: E402
-from codegen.codes import build  # noqa: E402
-from codegen.verify import module_for  # noqa: E402
+from bitmend import spec as specmod  # noqa: E402
+from bitmend.codes import build  # noqa: E402
+from bitmend.verify import module_for  # noqa: E402
 
 CODES = [ROOT / "examples" / "archive_block.toml", ROOT / "examples" / "beacon_telemetry.toml"]
 WORDS = 200            # distinct received words per measurement

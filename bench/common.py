@@ -14,7 +14,7 @@ from pathlib import Path
 ROOT = Path(__file__).resolve().parent.parent
 sys.path.insert(0, str(ROOT))
 
-from codegen import emit, harness  # noqa: E402
+from bitmend import emit, harness  # noqa: E402
 
 
 def best_seconds(fn, repeat: int = 5, number: int = 1) -> float:

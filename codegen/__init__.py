@@ -4,7 +4,7 @@ __version__ = "0.1.0"
 
 
 def __getattr__(name: str):
-    """`from codegen import load`: the host-side API (codegen.host), imported on first use."""
+    """`from bitmend import load`: the host-side API (bitmend.host), imported on first use."""
     if name == "load":
         from .host import load
         return load

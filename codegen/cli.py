@@ -457,7 +457,7 @@ class _CmakeDir(argparse.Action):
 
     def __call__(self, parser, namespace, values, option_string=None):
         from importlib import resources
-        print(resources.files("codegen") / "cmake")
+        print(resources.files("bitmend") / "cmake")
         parser.exit(EXIT_OK)
 
 

@@ -36,7 +36,7 @@ def _clit(value: int, bits: int) -> str:
 
 
 def environment() -> jinja2.Environment:
-    loader = jinja2.FileSystemLoader(str(resources.files("codegen") / "templates"))
+    loader = jinja2.FileSystemLoader(str(resources.files("bitmend") / "templates"))
     env = jinja2.Environment(loader=loader, undefined=jinja2.StrictUndefined, trim_blocks=True,
                              lstrip_blocks=True, keep_trailing_newline=True, autoescape=False)
     env.filters["clit"] = _clit
@@ -96,7 +96,7 @@ def template_files(model: CodeModel, env: jinja2.Environment | None = None,
 
 def version_stamp() -> Path:
     """The installed file that holds the package version: upgrading bitmend changes it."""
-    return Path(resources.files("codegen") / "__init__.py")
+    return Path(resources.files("bitmend") / "__init__.py")
 
 
 def plan(specs: list[Spec], outdir: Path, extra: Callable[[CodeModel], dict[str, str]] | None = None,

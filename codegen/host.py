@@ -1,6 +1,6 @@
 """The other end of the link in Python: the same bits as the device, from the same spec.
 
-    from codegen import load
+    from bitmend import load
     code = load("examples/soil_probe.toml")
     parity = code.encode(reading)
     status, reading, parity = code.decode(reading, parity)     # status < 0: uncorrectable, buffers as given

@@ -7,8 +7,8 @@ from pathlib import Path
 
 import pytest
 
-from codegen import emit, harness, spec as specmod
-from codegen.codes import build
+from bitmend import emit, harness, spec as specmod
+from bitmend.codes import build
 
 ROOT = Path(__file__).resolve().parent.parent
 EXAMPLES = sorted((ROOT / "examples").glob("*.toml"))

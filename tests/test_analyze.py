@@ -8,9 +8,9 @@ from pathlib import Path
 import numpy as np
 import pytest
 
-from codegen import cli
-from codegen.channels import BSC, analysis, simulate
-from codegen.emit import environment
+from bitmend import cli
+from bitmend.channels import BSC, analysis, simulate
+from bitmend.emit import environment
 from conftest import EXAMPLES, ROOT, make_model, make_spec
 
 stats = pytest.importorskip("scipy.stats")
@@ -92,7 +92,7 @@ def test_secded_72_64_against_scipy(f):
 
 @pytest.mark.parametrize("f", [1e-4, 1e-3, 3e-3])
 def test_bch_m13_t8_page_against_scipy(f):
-    r = analysis.analyze(_family_model(BCH_PAGE, "codegen.codes.bch"), BSC(f))
+    r = analysis.analyze(_family_model(BCH_PAGE, "bitmend.codes.bch"), BSC(f))
     # deg g = 8 * 13 = 104 for t = 8 over GF(2^13): the cosets of 1, 3, ..., 15 are distinct, 13 each
     # (common practice, no source); failure = scipy.stats.binom.sf(8, 4200, f)
     _check_against_scipy(r, 4200, 4096, 8, 4200, stats.binom.sf(8, 4200, f))
@@ -100,7 +100,7 @@ def test_bch_m13_t8_page_against_scipy(f):
 
 @pytest.mark.parametrize("f", [1e-4, 1e-3, 5e-3])
 def test_rs_204_188_against_scipy(f):
-    r = analysis.analyze(_family_model(RS_204_188, "codegen.codes.reed_solomon"), BSC(f))
+    r = analysis.analyze(_family_model(RS_204_188, "bitmend.codes.reed_solomon"), BSC(f))
     ps = stats.binom.sf(0, 8, f)            # a byte holds at least one flipped bit
     # more than 8 of 204 symbols wrong: scipy.stats.binom.sf(8, 204, ps); 1632 channel bits
     _check_against_scipy(r, 204, 188, 8, 1632, stats.binom.sf(8, 204, ps))
@@ -123,8 +123,8 @@ def test_crc_repetition_figures():
 SIM_CASES = [
     ("soil", SOIL, None, 0.02),
     ("secded", SECDED_72_64, None, 0.01),
-    ("bch", BCH_PAGE, "codegen.codes.bch", 2e-3),
-    ("rs", RS_204_188, "codegen.codes.reed_solomon", 5e-3),
+    ("bch", BCH_PAGE, "bitmend.codes.bch", 2e-3),
+    ("rs", RS_204_188, "bitmend.codes.reed_solomon", 5e-3),
 ]
 
 
@@ -153,7 +153,7 @@ def test_simulation_is_deterministic_and_worker_independent():
 
 def test_simulated_secded_split_holds_the_exact_split():
     # the C's flagged and silently wrong decodes against analyze's exact split
-    from codegen.channels.base import wilson_interval
+    from bitmend.channels.base import wilson_interval
     model = make_model(SECDED_72_64)
     f = 0.01
     r = analysis.analyze(model, BSC(f))
@@ -199,7 +199,7 @@ def test_cli_simulate_and_plot_png(tmp_path, capsys):
 
 
 def test_plot_svg(tmp_path):
-    from codegen.channels import figures, plot
+    from bitmend.channels import figures, plot
     model = make_model(SECDED_72_64)
     out = tmp_path / "fig.svg"
     ch = BSC(1e-3)
@@ -240,8 +240,8 @@ def test_bad_spec_exit_2(tmp_path, capsys):
 
 @pytest.mark.parametrize("spec", EXAMPLES, ids=[p.stem for p in EXAMPLES])
 def test_every_example_analyzes(spec):
-    from codegen import spec as specmod
-    from codegen.codes import build
+    from bitmend import spec as specmod
+    from bitmend.codes import build
     model = build(specmod.load(spec))
     r = analysis.analyze(model, BSC(1e-3))
     assert 0.0 <= r["block_failure"] <= 1.0
@@ -316,7 +316,7 @@ def test_several_specs_one_row_each(capsys):
 
 
 def test_zero_failure_simulation_is_an_upper_bound_marker():
-    from codegen.channels import figures
+    from bitmend.channels import figures
     model = make_model(SOIL)
     ch = BSC(1e-3)
     r = analysis.analyze(model, ch)

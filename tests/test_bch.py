@@ -7,9 +7,9 @@ from pathlib import Path
 import numpy as np
 import pytest
 
-from codegen import cli, verify
-from codegen.codes.base import ERR_ARG, ERR_LENGTH, ERR_UNCORRECTABLE
-from codegen.gf import DEFAULT_PRIMITIVE, bin_mod
+from bitmend import cli, verify
+from bitmend.codes.base import ERR_ARG, ERR_LENGTH, ERR_UNCORRECTABLE
+from bitmend.gf import DEFAULT_PRIMITIVE, bin_mod
 from conftest import ROOT, compile_model, make_model
 
 PROFILES = ["fast", "small", "tiny"]
@@ -323,7 +323,7 @@ def test_bad_arguments(short10):
 
 def test_header_states_tables_and_stack():
     model = make_model((ROOT / "examples" / "flash_page.toml").read_text())
-    from codegen import emit
+    from bitmend import emit
     header = emit.render(model)["flash_page.h"]
     assert f"#define FLASH_PAGE_TABLE_BYTES       {model.properties.table_bytes}u" in header
     assert "Stack: at most" in header and "FLASH_PAGE_STACK_BYTES" in header

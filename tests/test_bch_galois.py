@@ -11,8 +11,8 @@ from __future__ import annotations
 import numpy as np
 import pytest
 
-from codegen.codes.base import ERR_UNCORRECTABLE
-from codegen.gf import DEFAULT_PRIMITIVE
+from bitmend.codes.base import ERR_UNCORRECTABLE
+from bitmend.gf import DEFAULT_PRIMITIVE
 from conftest import ROOT, compile_model, make_model
 from test_bch import bch_toml
 

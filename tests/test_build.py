@@ -39,8 +39,8 @@ def test_firmware_example_builds_and_runs(cc, tmp_path):
 @pytest.mark.parametrize("profile", ["fast", "small", "tiny"])
 def test_generated_c_strict_every_profile(cc, profile, tmp_path):
     """Each example's C in each profile compiles with the strict flags and a few more."""
-    from codegen import emit, harness, spec as specmod
-    from codegen.codes import build
+    from bitmend import emit, harness, spec as specmod
+    from bitmend.codes import build
     from conftest import EXAMPLES
 
     for path in EXAMPLES:

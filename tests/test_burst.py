@@ -1,4 +1,4 @@
-"""The Gilbert-Elliott burst channel (codegen.channels.burst) against independent computations: the
+"""The Gilbert-Elliott burst channel (bitmend.channels.burst) against independent computations: the
 definition summed over every state sequence for short blocks, a plain bit-by-bit forward recursion, scipy's
 binomial where the chain is memoryless, and simulations through the compiled C."""
 from __future__ import annotations
@@ -10,8 +10,8 @@ import math
 import numpy as np
 import pytest
 
-from codegen import cli
-from codegen.channels import GilbertElliott, analysis, bsc, simulate
+from bitmend import cli
+from bitmend.channels import GilbertElliott, analysis, bsc, simulate
 from conftest import EXAMPLES, ROOT, make_model
 
 stats = pytest.importorskip("scipy.stats")
@@ -281,9 +281,9 @@ def test_interleaved_simulation_brackets_the_exact_frame_failure():
 
 
 def test_recommend_under_bursts_interleaves_where_the_bsc_pick_misses(tmp_path):
-    from codegen import spec as specmod
-    from codegen.channels import BSC, recommend
-    from codegen.codes import build
+    from bitmend import spec as specmod
+    from bitmend.channels import BSC, recommend
+    from bitmend.codes import build
     burst = GilbertElliott(1e-3, 20.0)
     target = 1e-9
     bsc_pick = recommend.search(512, BSC(1e-3), target, families=["reed-solomon"]).best

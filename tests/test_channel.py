@@ -1,4 +1,4 @@
-"""codegen.channels.bsc against outside references: scipy.stats (binom, norm, binomtest), brute-force
+"""bitmend.channels.bsc against outside references: scipy.stats (binom, norm, binomtest), brute-force
 enumeration of small channels, and the usual textbook values of the binary entropy."""
 from __future__ import annotations
 
@@ -8,8 +8,8 @@ import math
 import numpy as np
 import pytest
 
-from codegen.channels import bsc as channel
-from codegen.channels.base import wilson_interval
+from bitmend.channels import bsc as channel
+from bitmend.channels.base import wilson_interval
 
 stats = pytest.importorskip("scipy.stats")
 
@@ -176,7 +176,7 @@ def _hamming(k: int, secded: bool):
 
 
 def _columns(model) -> list[int]:
-    from codegen.channels.analysis import parity_check_columns
+    from bitmend.channels.analysis import parity_check_columns
     return parity_check_columns(model)
 
 

@@ -5,8 +5,10 @@ import os
 import shutil
 import subprocess
 import sys
+from pathlib import Path
 
-from codegen import __version__, cli
+import bitmend
+from bitmend import __version__, cli
 from conftest import EXAMPLES, ROOT
 
 SPEC = """
@@ -87,7 +89,7 @@ def test_depfile_is_a_make_rule(tmp_path):
     targets, prereqs = rule.split(": ")
     assert set(targets.split()) == {str(out / "pkt.h"), str(out / "pkt.c")}
     prereqs = prereqs.split()
-    assert prereqs[0] == str(spec) and prereqs[-1].endswith("codegen/__init__.py")     # the version stamp
+    assert prereqs[0] == str(spec) and prereqs[-1] == str(Path(bitmend.__file__))     # the version stamp
     assert {os.path.basename(p) for p in prereqs[1:-1]} == {
         "crc_repetition.h.j2", "crc_repetition.c.j2", "_common.j2"}
     if shutil.which("make"):       # make reads it: touching the spec makes the outputs out of date
@@ -111,7 +113,7 @@ def test_verify_passes_and_writes_json(tmp_path, capsys):
 
 def test_verify_exits_1_on_mismatch(tmp_path, monkeypatch, capsys):
     """A model that disagrees with its C must make verify fail."""
-    from codegen.codes import crc_repetition
+    from bitmend.codes import crc_repetition
 
     spec = write_spec(tmp_path)
     real = crc_repetition.CrcRepetition.decode
@@ -128,7 +130,7 @@ def test_verify_exits_1_on_mismatch(tmp_path, monkeypatch, capsys):
 def test_bad_arguments_exit_2(tmp_path, capsys):
     assert cli.main(["verify", str(write_spec(tmp_path)), "--budget", "0"]) == 2
     assert "--budget" in capsys.readouterr().err
-    res = subprocess.run([sys.executable, "-m", "codegen.cli", "frobnicate"], capture_output=True, text=True)
+    res = subprocess.run([sys.executable, "-m", "bitmend.cli", "frobnicate"], capture_output=True, text=True)
     assert res.returncode == 2 and "Traceback" not in res.stderr
 
 

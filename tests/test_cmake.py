@@ -9,7 +9,7 @@ from pathlib import Path
 
 import pytest
 
-from codegen import cli
+from bitmend import cli
 from conftest import EXAMPLES, ROOT
 
 BITMEND = Path(sys.executable).parent / "bitmend"

@@ -6,9 +6,9 @@ import subprocess
 import numpy as np
 import pytest
 
-from codegen import emit, harness
-from codegen.crc_catalogue import PRESETS
-from codegen.codes.crc_repetition import Crc
+from bitmend import emit, harness
+from bitmend.crc_catalogue import PRESETS
+from bitmend.codes.crc_repetition import Crc
 from conftest import make_model
 from crc_catalogue import CATALOGUE, crccheck_entries
 

@@ -7,9 +7,9 @@ import re
 
 import pytest
 
-from codegen import cli, crc_catalogue
-from codegen.codes.crc_repetition import CHECK_INPUT, Crc
-from codegen.spec import SpecError
+from bitmend import cli, crc_catalogue
+from bitmend.codes.crc_repetition import CHECK_INPUT, Crc
+from bitmend.spec import SpecError
 from conftest import ROOT, make_model, make_spec
 from crc_catalogue import CATALOGUE
 
@@ -74,7 +74,7 @@ def test_preset_fills_the_parameters_and_the_header_states_the_check():
     kermit = crc_catalogue.find("CRC-16/KERMIT")
     assert model.spec.table("crc").preset == "CRC-16/KERMIT"
     assert model.crc.compute(CHECK_INPUT) == kermit.check == 0x2189     # catalogue check value
-    from codegen import emit
+    from bitmend import emit
     header = emit.render(model)["probe.h"]
     assert "probe: CRC-16/KERMIT (poly 0x1021u" in header
     assert re.search(r"#define PROBE_CRC_CHECK\s+0x2189u ", header)

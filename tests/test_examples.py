@@ -3,8 +3,8 @@ from __future__ import annotations
 
 import pytest
 
-from codegen import spec as specmod, verify
-from codegen.codes import build
+from bitmend import spec as specmod, verify
+from bitmend.codes import build
 from conftest import EXAMPLES, compile_model
 
 PROFILES = ["fast", "small", "tiny"]

@@ -8,8 +8,8 @@ import subprocess
 
 import pytest
 
-from codegen import cli, emit, footprint, spec as specmod, target
-from codegen.codes import build
+from bitmend import cli, emit, footprint, spec as specmod, target
+from bitmend.codes import build
 from conftest import EXAMPLES
 
 M0 = target.TARGETS["cortex-m0plus"]

@@ -19,8 +19,8 @@ from pathlib import Path
 import numpy as np
 import pytest
 
-from codegen import emit, harness, spec as specmod
-from codegen.codes import build
+from bitmend import emit, harness, spec as specmod
+from bitmend.codes import build
 from conftest import ROOT
 
 DRIVER = Path(__file__).parent / "fuzz" / "driver.c"

@@ -20,8 +20,8 @@ from pathlib import Path
 
 from hypothesis import HealthCheck, Phase, assume, given, settings, strategies as st
 
-from codegen import cli, emit, harness, spec as specmod
-from codegen.codes import build
+from bitmend import cli, emit, harness, spec as specmod
+from bitmend.codes import build
 from conftest import EXAMPLES, make_spec
 
 LONG_RUN = int(os.environ.get("BITMEND_FUZZ_EXAMPLES", "0"))

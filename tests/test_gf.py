@@ -4,7 +4,7 @@ from __future__ import annotations
 import galois
 import pytest
 
-from codegen import gf
+from bitmend import gf
 
 
 @pytest.mark.parametrize("m", sorted(gf.DEFAULT_PRIMITIVE))

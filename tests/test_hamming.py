@@ -6,7 +6,7 @@ import itertools
 import numpy as np
 import pytest
 
-from codegen.codes.hamming import check_bits
+from bitmend.codes.hamming import check_bits
 from conftest import compile_model, make_model
 
 

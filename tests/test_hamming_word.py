@@ -7,7 +7,7 @@ import itertools
 import numpy as np
 import pytest
 
-from codegen.codes.base import ERR_ARG, ERR_UNCORRECTABLE
+from bitmend.codes.base import ERR_ARG, ERR_UNCORRECTABLE
 from conftest import compile_model, make_model
 
 RNG = np.random.default_rng(64)
@@ -112,5 +112,5 @@ def test_null_pointers_are_argument_errors():
 
 def test_no_word_api_beyond_64_bits():
     model = make_model(spec(65, True, "fast"))
-    from codegen import emit
+    from bitmend import emit
     assert "_encode_word" not in emit.render(model)["w65dfast.h"]

@@ -3,7 +3,7 @@ from __future__ import annotations
 
 import pytest
 
-from codegen import harness
+from bitmend import harness
 
 HEADER = """#ifndef EVIL_H
 #define EVIL_H

@@ -14,8 +14,8 @@ from functools import lru_cache
 
 import pytest
 
-from codegen import emit, spec as specmod
-from codegen.codes import build
+from bitmend import emit, spec as specmod
+from bitmend.codes import build
 from conftest import EXAMPLES
 
 RETURN_ADDRESS = 8

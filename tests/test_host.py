@@ -10,8 +10,8 @@ import subprocess
 import numpy as np
 import pytest
 
-from codegen import cli, emit, harness, load
-from codegen.host import Code
+from bitmend import cli, emit, harness, load
+from bitmend.host import Code
 from conftest import EXAMPLES, ROOT
 
 RNG = np.random.default_rng(12)

@@ -10,7 +10,7 @@ import sys
 
 import pytest
 
-from codegen import cli, harness
+from bitmend import cli, harness
 from conftest import EXAMPLES
 
 HAMMING = '[code]\nname = "word"\nfamily = "hamming"\n[hamming]\ndata_bits = {bits}\n'
@@ -128,7 +128,7 @@ def test_device_file_is_refused_without_reading_it(capsys):
 def test_fifo_does_not_hang(tmp_path):
     fifo = tmp_path / "spec.toml"
     os.mkfifo(fifo)
-    res = subprocess.run([sys.executable, "-m", "codegen.cli", "generate", str(fifo), "-o", str(tmp_path / "o")],
+    res = subprocess.run([sys.executable, "-m", "bitmend.cli", "generate", str(fifo), "-o", str(tmp_path / "o")],
                          capture_output=True, text=True, timeout=60)
     assert res.returncode == 2 and "Traceback" not in res.stderr
     assert res.stderr == "spec.toml: [file]: not a regular file (a pipe or a device cannot be a spec)\n"
@@ -150,13 +150,13 @@ def test_non_utf8_file_names(tmp_path):
     with open(spec, "wb") as fh:
         fh.write(EXAMPLES[0].read_bytes())
     out = os.path.join(folder, b"o\xfe")
-    res = subprocess.run([sys.executable, "-m", "codegen.cli", "generate", spec, "-o", out], capture_output=True)
+    res = subprocess.run([sys.executable, "-m", "bitmend.cli", "generate", spec, "-o", out], capture_output=True)
     assert res.returncode == 0 and b"Traceback" not in res.stderr
     assert res.stdout.decode("ascii").startswith(f"wrote {tmp_path}/o\\xfe/")
     assert len(os.listdir(out)) == 2
     with open(spec, "ab") as fh:
         fh.write(b"[bogus]\nx = 1\n")
-    res = subprocess.run([sys.executable, "-m", "codegen.cli", "generate", spec, "-o", out + b"2"],
+    res = subprocess.run([sys.executable, "-m", "bitmend.cli", "generate", spec, "-o", out + b"2"],
                          capture_output=True)
     assert res.returncode == 2 and res.stderr.decode("ascii").startswith("x\\xff.toml: [bogus]: unknown table")
     assert not os.path.exists(out + b"2")
@@ -202,8 +202,8 @@ def test_compile_error_names_compiler_flags_and_first_error(tmp_path):
 
 def test_truncated_cached_module_is_rebuilt(tmp_path, monkeypatch):
     """A damaged cache entry (here: a .so cut short) is built again, not a traceback."""
-    from codegen import spec as specmod
-    from codegen.codes import build
+    from bitmend import spec as specmod
+    from bitmend.codes import build
     from conftest import compile_model
     monkeypatch.setenv("BITMEND_CACHE", str(tmp_path / "cache"))
     spec = tmp_path / "word.toml"
@@ -212,7 +212,7 @@ def test_truncated_cached_module_is_rebuilt(tmp_path, monkeypatch):
     [so] = list((tmp_path / "cache").glob("cffi/*/*.so"))
     so.unlink()                                                 # a new inode: this process keeps its copy
     so.write_bytes(b"\x7fELF" + bytes(96))
-    cmd = [sys.executable, "-m", "codegen.cli", "verify", str(spec), "--budget", "5"]
+    cmd = [sys.executable, "-m", "bitmend.cli", "verify", str(spec), "--budget", "5"]
     res = subprocess.run(cmd, capture_output=True, text=True)
     assert res.returncode == 0 and "Traceback" not in res.stderr and "OK" in res.stdout
     assert so.stat().st_size > 100

@@ -5,8 +5,8 @@ from __future__ import annotations
 import numpy as np
 import pytest
 
-from codegen import spec as specmod
-from codegen.codes import build
+from bitmend import spec as specmod
+from bitmend.codes import build
 from conftest import ROOT, compile_model, make_model, make_spec
 
 DOWNLINK = (ROOT / "examples" / "telemetry_downlink.toml").read_text()     # RS(255,223), depth 4

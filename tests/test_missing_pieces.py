@@ -3,7 +3,7 @@ from __future__ import annotations
 
 import sys
 
-from codegen import cli
+from bitmend import cli
 from conftest import ROOT
 
 

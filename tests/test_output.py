@@ -13,7 +13,7 @@ from pathlib import Path
 
 import pytest
 
-from codegen import cli, emit
+from bitmend import cli, emit
 
 SPEC = """
 [code]
@@ -110,7 +110,7 @@ def test_sigint_in_a_real_run_exits_130_with_one_line(tmp_path):
     """A real SIGINT once verify has announced its work: exit 130, one line, the JSON not written."""
     from conftest import EXAMPLES
     flash = next(p for p in EXAMPLES if p.stem == "flash_page")
-    proc = subprocess.Popen([sys.executable, "-m", "codegen.cli", "verify", str(flash), "--json", str(tmp_path / "v.json")],
+    proc = subprocess.Popen([sys.executable, "-m", "bitmend.cli", "verify", str(flash), "--json", str(tmp_path / "v.json")],
                             stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True)
     try:
         assert "cases" in proc.stdout.readline()
@@ -152,7 +152,7 @@ def test_concurrent_processes_never_mix_a_pair(tmp_path):
     out = tmp_path / "gen"
     specs = [spec_file(tmp_path / f"s{i}", copies) for i, copies in enumerate((1, 3, 5))]
     for _ in range(1):
-        procs = [subprocess.Popen([sys.executable, "-m", "codegen.cli", "generate", str(s), "-o", str(out)],
+        procs = [subprocess.Popen([sys.executable, "-m", "bitmend.cli", "generate", str(s), "-o", str(out)],
                                   stdout=subprocess.DEVNULL, stderr=subprocess.PIPE) for s in specs]
         assert [p.wait(timeout=120) for p in procs] == [0, 0, 0]
         h, c = (out / "pkt.h").read_text(), (out / "pkt.c").read_text()
@@ -275,6 +275,6 @@ def test_recommend_write_to_stdout(tmp_path, capsys):
 
 def test_closed_pipe_is_quiet():
     """`bitmend ... | head -1`: no 'Broken pipe' and no traceback."""
-    cmd = f"{sys.executable} -m codegen.cli recommend --data-bytes 64 --flip-prob 1e-3 --target 1e-9 | head -c 1"
+    cmd = f"{sys.executable} -m bitmend.cli recommend --data-bytes 64 --flip-prob 1e-3 --target 1e-9 | head -c 1"
     res = subprocess.run(["bash", "-o", "pipefail", "-c", cmd], capture_output=True, text=True, timeout=120)
     assert res.stderr == "" and res.returncode in (0, 141)

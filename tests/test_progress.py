@@ -11,8 +11,8 @@ import sys
 
 import pytest
 
-from codegen import cli, spec as specmod, verify
-from codegen.codes import build
+from bitmend import cli, spec as specmod, verify
+from bitmend.codes import build
 from conftest import ROOT
 
 CAL = str(ROOT / "examples" / "cal_word.toml")
@@ -23,7 +23,7 @@ def on_a_terminal(args: list[str], env_extra: dict | None = None) -> tuple[int, 
     """Run bitmend with stderr on a pseudo-terminal; (exit status, stdout, terminal text without escapes)."""
     env = {k: v for k, v in os.environ.items() if k != "CI"} | (env_extra or {})
     master, slave = pty.openpty()
-    proc = subprocess.Popen([sys.executable, "-m", "codegen.cli", *args], stdout=subprocess.PIPE,
+    proc = subprocess.Popen([sys.executable, "-m", "bitmend.cli", *args], stdout=subprocess.PIPE,
                             stderr=slave, env=env, cwd=ROOT)
     os.close(slave)
     chunks = []

@@ -19,9 +19,9 @@ from pathlib import Path
 import numpy as np
 import pytest
 
-from codegen import cli, cluster, emit, prove
-from codegen import spec as specmod
-from codegen.codes import build
+from bitmend import cli, cluster, emit, prove
+from bitmend import spec as specmod
+from bitmend.codes import build
 from conftest import EXAMPLES, rs_toml
 
 DASK = Path(sys.executable).parent / "dask"
@@ -207,7 +207,7 @@ def test_ctrl_c_stops_cleanly(tmp_path):
     state = tmp_path / "state.jsonl"
     flash = [p for p in EXAMPLES if p.name == "flash_page.toml"][0]
     args = [str(flash), "--data-len", "4", "--max-weight", "3", "--state", str(state)]
-    proc = subprocess.Popen([sys.executable, "-m", "codegen.cli", "prove", *args], start_new_session=True,
+    proc = subprocess.Popen([sys.executable, "-m", "bitmend.cli", "prove", *args], start_new_session=True,
                             stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True)
     try:
         deadline = time.monotonic() + 90

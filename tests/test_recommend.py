@@ -8,9 +8,9 @@ import tomllib
 
 import pytest
 
-from codegen import cli, emit, spec as specmod
-from codegen.channels import BSC, recommend
-from codegen.codes import build
+from bitmend import cli, emit, spec as specmod
+from bitmend.channels import BSC, recommend
+from bitmend.codes import build
 
 stats = pytest.importorskip("scipy.stats")
 
@@ -67,7 +67,7 @@ def test_ranked_by_parity_then_tables(outcome):
 
 
 def test_best_no_worse_than_plain_bch_t26(outcome):
-    pytest.importorskip("codegen.codes.bch")      # temporary guard while the family is written
+    pytest.importorskip("bitmend.codes.bch")      # temporary guard while the family is written
     best = outcome.best
     # plain BCH over GF(2^13) with t = 26 on 512 bytes: 26 * 13 = 338 parity bits = 43 bytes (the issue)
     assert best.parity_bytes <= 43
@@ -76,7 +76,7 @@ def test_best_no_worse_than_plain_bch_t26(outcome):
 
 
 def test_bch_t26_is_the_weakest_bch_meeting_the_target(outcome):
-    pytest.importorskip("codegen.codes.bch")
+    pytest.importorskip("bitmend.codes.bch")
     one_word = [c for c in outcome.candidates if c.family == "bch" and c.codewords == 1
                 and c.tables["bch"]["m"] == 13]
     assert one_word and one_word[0].t == 26
@@ -99,7 +99,7 @@ def test_bch_parity_bits_against_textbook_table(n, k, t):
 
 
 def test_bch_parity_bits_match_the_model():
-    bch = pytest.importorskip("codegen.codes.bch")
+    bch = pytest.importorskip("bitmend.codes.bch")
     for m, t in [(13, 8), (13, 26), (12, 20), (10, 13)]:
         assert recommend.bch_parity_bits(m, t) == bch.parity_bits_for(m, t)
 
@@ -147,7 +147,7 @@ def test_cli_json_and_write(tmp_path, capsys):
 
 
 def test_written_bch_spec_generates(tmp_path):
-    pytest.importorskip("codegen.codes.bch")
+    pytest.importorskip("bitmend.codes.bch")
     out = recommend.search(DATA, BSC(F), TARGET, families=["bch"])
     path = tmp_path / "best.toml"
     emit.write_atomic(path, recommend.spec_text(out.best, out))

@@ -10,8 +10,8 @@ import pytest
 
 from conftest import ROOT, compile_model, make_model, rs_toml
 
-from codegen import cli, emit, harness, verify
-from codegen.codes.base import ERR_ARG, ERR_LENGTH, ERR_UNCORRECTABLE
+from bitmend import cli, emit, harness, verify
+from bitmend.codes.base import ERR_ARG, ERR_LENGTH, ERR_UNCORRECTABLE
 
 EXAMPLES = {p.stem: p for p in (ROOT / "examples").glob("*.toml")
             if 'family = "reed-solomon"' in p.read_text()}

@@ -14,7 +14,7 @@ import pytest
 
 from conftest import compile_model, make_model, rs_toml
 
-from codegen.codes.base import ERR_UNCORRECTABLE
+from bitmend.codes.base import ERR_UNCORRECTABLE
 
 CODES = {
     # DVB-S outer code, ETSI EN 300 421: RS(204,188, t=8), the RS(255,239) code shortened by 51 symbols,

@@ -9,8 +9,8 @@ import re
 
 import pytest
 
-from codegen import cli, emit, harness, selftest, spec as specmod, target
-from codegen.codes import build
+from bitmend import cli, emit, harness, selftest, spec as specmod, target
+from bitmend.codes import build
 from conftest import EXAMPLES
 
 PROFILES = ["fast", "small", "tiny"]

@@ -3,7 +3,7 @@ from __future__ import annotations
 
 import pytest
 
-from codegen import cli
+from bitmend import cli
 
 GOOD = """
 [code]

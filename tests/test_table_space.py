@@ -10,8 +10,8 @@ import subprocess
 
 import pytest
 
-from codegen import cli, emit, harness, spec as specmod, target
-from codegen.codes import build
+from bitmend import cli, emit, harness, spec as specmod, target
+from bitmend.codes import build
 from conftest import EXAMPLES, make_spec
 
 PROFILES = ["fast", "small", "tiny"]

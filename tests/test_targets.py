@@ -18,8 +18,8 @@ from functools import lru_cache
 
 import pytest
 
-from codegen import emit, harness, spec as specmod, target
-from codegen.codes import build
+from bitmend import emit, harness, spec as specmod, target
+from bitmend.codes import build
 from conftest import EXAMPLES
 
 PROFILES = ("fast", "small", "tiny")

@@ -6,7 +6,7 @@ import tracemalloc
 
 import numpy as np
 
-from codegen import cli, verify
+from bitmend import cli, verify
 from conftest import make_model
 
 BIG_CRC = """[code]

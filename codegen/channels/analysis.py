@@ -1,7 +1,7 @@
 """What one code buys on a channel: the figures `bitmend analyze` prints.
 
 Built from a code model's `properties` (n, k, t, unit_bits, parity and table bytes), its family name,
-which chooses the failure formula, and a channel model (codegen.channels.base.Channel):
+which chooses the failure formula, and a channel model (bitmend.channels.base.Channel):
 - "bch", "hamming" (SEC): bounded distance over bits, P(more than t of n bits flipped);
 - "hamming" with secded: the same failure, split into detected and undetected;
 - "reed-solomon": bounded distance over symbols of m = unit_bits bits, each wrong with 1 - (1 - f)^m;

@@ -1,5 +1,5 @@
 """The numbers a plot shows, computed from the code models and a channel: curves and points only, no
-drawing (codegen.channels.plot renders them).
+drawing (bitmend.channels.plot renders them).
 
 Two panels, each for one or more analysed specs at one channel setting:
 - the rate-error plane: flip probability against rate, with the capacity 1 - H2(f), each code's

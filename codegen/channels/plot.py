@@ -1,4 +1,4 @@
-"""Rendering of the figures computed by codegen.channels.figures (matplotlib, Agg backend): PNG or SVG,
+"""Rendering of the figures computed by bitmend.channels.figures (matplotlib, Agg backend): PNG or SVG,
 chosen by the file's extension.  No channel or code maths here: every number drawn comes from the
 figure data."""
 from __future__ import annotations
@@ -21,7 +21,7 @@ def _color(item: dict) -> str:
 
 
 def render(data: dict, fmt: str = "png") -> bytes:
-    """The figure as PNG or SVG bytes from codegen.channels.figures.compute's output."""
+    """The figure as PNG or SVG bytes from bitmend.channels.figures.compute's output."""
     import matplotlib
     matplotlib.use("Agg")
     from matplotlib.figure import Figure

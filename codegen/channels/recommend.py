@@ -1,10 +1,10 @@
 """Code choice: which configuration of which family protects N data bytes to a target failure at the
-least cost, on a channel (codegen.channels.base.Channel).
+least cost, on a channel (bitmend.channels.base.Channel).
 
 Per family a fast search (closed-form sizes and the channel's failure figures) finds, for each way of splitting the
 data over codewords, the weakest configuration that meets the target.  Each of those finalists is then
-built as a real spec (codegen.spec.parse) and a real model (codegen.codes.build), and judged again from
-the model's own figures: parity bytes, table bytes and the block failure of codegen.analysis.  "Block
+built as a real spec (bitmend.spec.parse) and a real model (bitmend.codes.build), and judged again from
+the model's own figures: parity bytes, table bytes and the block failure of bitmend.analysis.  "Block
 failure for the whole data" is 1 - (1 - p)^c for c codewords failing independently with p each; for CRC +
 repetition the CRC's undetected-error estimate is added to it (a silent wrong answer is a failure too).
 A last codeword that is not full is counted as full (zero padded), which slightly overstates its failure.

@@ -1,6 +1,6 @@
 """Monte Carlo check of the channel maths: random channel trials through the compiled generated C.
 
-Each trial encodes random data with the C, draws the channel (codegen.channels.base.Channel.flip_positions)
+Each trial encodes random data with the C, draws the channel (bitmend.channels.base.Channel.flip_positions)
 over the transmitted bits (the code's bits only: the zero padding of the byte packing carries nothing and
 is not sent), flips them, decodes
 with the C and counts a failure when decode returns a negative value or returns data other than what

@@ -6,7 +6,7 @@ import importlib
 from ..spec import Spec, SpecError, load, sort_problems
 from .base import CodeModel
 
-# family name (the spec's [code] family) -> "module:Class" under codegen.codes
+# family name (the spec's [code] family) -> "module:Class" under bitmend.codes
 REGISTRY = {
     "crc-repetition": "crc_repetition:CrcRepetition",
     "hamming": "hamming:Hamming",
