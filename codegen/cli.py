@@ -12,6 +12,7 @@ import os
 import shlex
 import shutil
 import signal
+import stat
 import sys
 import threading
 from pathlib import Path
@@ -201,7 +202,14 @@ def cmd_recommend(args) -> int:
 
 
 def _bytes_in(path: str) -> bytes:
-    return sys.stdin.buffer.read() if path == STDOUT else Path(path).read_bytes()
+    """The input of encode/decode: stdin for "-", else a regular file or a pipe (a device never ends)."""
+    if path == STDOUT:
+        return sys.stdin.buffer.read()
+    mode = os.stat(path).st_mode
+    if stat.S_ISDIR(mode) or stat.S_ISCHR(mode) or stat.S_ISBLK(mode):
+        raise specmod.SpecError([specmod.Problem(path, "file", "",
+                                                 "not a regular file or a pipe (a folder or a device)")])
+    return Path(path).read_bytes()
 
 
 def _bytes_out(outputs: dict[str, bytes]) -> None:

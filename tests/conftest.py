@@ -14,6 +14,21 @@ ROOT = Path(__file__).resolve().parent.parent
 EXAMPLES = sorted((ROOT / "examples").glob("*.toml"))
 
 
+def pkt_spec(copies: int = 3) -> str:
+    """A small CRC-8 + repetition spec named pkt (invented data for front-end tests)."""
+    return f"""
+[code]
+name = "pkt"
+family = "crc-repetition"
+[crc]
+width = 8
+poly = 0x07
+[repetition]
+data_bytes = 4
+copies = {copies}
+"""
+
+
 def make_spec(toml_text: str, filename: str = "test.toml", profile: str | None = None) -> specmod.Spec:
     """A validated Spec from TOML text (raises SpecError like a file would)."""
     raw = toml_text.encode()

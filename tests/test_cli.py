@@ -9,19 +9,9 @@ from pathlib import Path
 
 import bitmend
 from bitmend import __version__, cli
-from conftest import EXAMPLES, ROOT
+from conftest import EXAMPLES, ROOT, pkt_spec
 
-SPEC = """
-[code]
-name = "pkt"
-family = "crc-repetition"
-[crc]
-width = 8
-poly = 0x07
-[repetition]
-data_bytes = 4
-copies = 3
-"""
+SPEC = pkt_spec()
 
 
 def write_spec(tmp_path, text=SPEC, name="pkt.toml"):

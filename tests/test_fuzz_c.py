@@ -25,7 +25,7 @@ from conftest import ROOT
 
 DRIVER = Path(__file__).parent / "fuzz" / "driver.c"
 RUNS = int(os.environ.get("BITMEND_FUZZ_RUNS", "3000"))
-CLANG = shutil.which("clang") or shutil.which("clang-14")
+CLANG = shutil.which("clang")
 # one example per family
 SAMPLES = ["soil_probe", "cal_word", "meter_reading", "beacon_telemetry"]
 # -O0 builds in half the time of -O1, which matters for the suite's few thousand inputs, not for make fuzz

@@ -165,3 +165,12 @@ def test_file_input_problems_exit_2_and_write_nothing(tmp_path, capsys):
     assert "7 bytes are not whole blocks of cal_word (4 data + 1 parity bytes each)" in capsys.readouterr().err
     assert cli.main(["decode", str(CAL), str(tmp_path / "missing"), str(tmp_path / "o")]) == 2
     assert not (tmp_path / "o").exists()
+
+
+def test_a_device_or_folder_as_input_is_refused_without_reading(tmp_path, capsys):
+    # /dev/zero never ends: reading it whole would grow until the process is killed
+    for source in ("/dev/zero", str(tmp_path)):
+        assert cli.main(["encode", str(CAL), source, str(tmp_path / "o")]) == 2
+        err = capsys.readouterr().err
+        assert err.count("\n") == 1 and "[file]: not a regular file or a pipe" in err
+    assert not (tmp_path / "o").exists()

@@ -14,24 +14,13 @@ from pathlib import Path
 import pytest
 
 from bitmend import cli, emit
-
-SPEC = """
-[code]
-name = "pkt"
-family = "crc-repetition"
-[crc]
-width = 8
-poly = 0x07
-[repetition]
-data_bytes = 4
-copies = {copies}
-"""
+from conftest import pkt_spec
 
 
 def spec_file(folder: Path, copies: int = 3, name: str = "pkt.toml") -> Path:
     folder.mkdir(parents=True, exist_ok=True)
     path = folder / name
-    path.write_text(SPEC.format(copies=copies))
+    path.write_text(pkt_spec(copies))
     return path
 
 
