@@ -119,6 +119,11 @@ class Field:
             return 0
         return int(self.exp[self.log[a] + self.log[b]])
 
+    def mul_array(self, a: np.ndarray, b) -> np.ndarray:
+        """Elementwise products of an int64 array of field elements with another one or with a scalar."""
+        b = np.asarray(b, dtype=np.int64)
+        return np.where((a == 0) | (b == 0), 0, self.exp[self.log[a] + self.log[b]])
+
     def div(self, a: int, b: int) -> int:
         if b == 0:
             raise ZeroDivisionError("division by zero in GF(2^m)")

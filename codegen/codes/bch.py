@@ -201,20 +201,18 @@ class Bch(CodeModel):
         return np.concatenate([dbits, pbits])
 
     def syndromes(self, data: bytes, parity: bytes) -> list[int]:
-        """S_j = R(alpha^j), j = 1 .. 2t, evaluated straight from the received word's set bits."""
+        """S_j = R(alpha^j), j = 1 .. 2t, evaluated straight from the received word's set bits for odd j;
+        S_2i = S_i^2 for a binary word."""
         bits = self._word_bits(data, parity)
         ns = bits.size
         degrees = (ns - 1 - np.flatnonzero(bits)).astype(np.int64)
-        out = []
+        out = [0] * (2 * self.t + 1)                 # out[j] = S_j; out[0] unused
         for j in range(1, 2 * self.t + 1):
-            terms = self._exp_np[(degrees * j) % self.order]
-            out.append(int(np.bitwise_xor.reduce(terms)) if terms.size else 0)
-        return out
-
-    def _mul(self, a: int, b: int) -> int:
-        if a == 0 or b == 0:
-            return 0
-        return self._exp[(self._log[a] + self._log[b]) % self.order]
+            if j % 2:
+                out[j] = int(np.bitwise_xor.reduce(self._exp_np[(degrees * j) % self.order]))
+            else:
+                out[j] = self.field.mul(out[j // 2], out[j // 2])
+        return out[1:]
 
     def _div(self, a: int, b: int) -> int:
         if a == 0:
@@ -223,34 +221,34 @@ class Bch(CodeModel):
 
     def berlekamp_massey(self, synd: list[int]) -> tuple[list[int], int] | None:
         """Massey's shortest-LFSR synthesis over S_1 .. S_2t: (C coefficients c[0..t], L), or None when
-        L > t or deg C != L (no error pattern of weight <= t fits)."""
-        t = self.t
-        c = [1] + [0] * t
-        prev = [1] + [0] * t
+        L > t or deg C != L (no error pattern of weight <= t fits).  Each step is a few array operations
+        over the coefficients, so large t stays affordable."""
+        t, mul = self.t, self.field.mul_array
+        s = np.asarray(synd, dtype=np.int64)
+        c = np.zeros(t + 1, dtype=np.int64)
+        c[0] = 1
+        prev = c.copy()
         length, shift, prev_d = 0, 1, 1
         for step in range(2 * t):
-            d = synd[step]
-            for i in range(1, length + 1):
-                d ^= self._mul(c[i], synd[step - i])
+            # d = S_step+1 + sum_i c_i S_step+1-i, i = 1 .. L
+            d = synd[step] ^ int(np.bitwise_xor.reduce(mul(c[1:length + 1], s[step - length:step][::-1])))
             if d == 0:
                 shift += 1
                 continue
-            coef = self._div(d, prev_d)
+            update = mul(prev[:max(0, t + 1 - shift)], self._div(d, prev_d))
             if 2 * length <= step:
                 new_length = step + 1 - length
                 if new_length > t:
                     return None
-                copy = list(c)
-                for i in range(shift, t + 1):
-                    c[i] ^= self._mul(coef, prev[i - shift])
+                copy = c.copy()
+                c[shift:] ^= update
                 prev, prev_d, length, shift = copy, d, new_length, 1
             else:
-                for i in range(shift, t + 1):
-                    c[i] ^= self._mul(coef, prev[i - shift])
+                c[shift:] ^= update
                 shift += 1
-        if c[length] == 0 or any(c[length + 1:]):
+        if c[length] == 0 or c[length + 1:].any():
             return None
-        return c, length
+        return c.tolist(), length
 
     def chien(self, c: list[int], length: int, ns: int) -> np.ndarray:
         """Positions p in 0 .. ns-1 with C(alpha^-p) = 0."""
