@@ -111,6 +111,22 @@ def test_sigint_in_a_real_run_exits_130_with_one_line(tmp_path):
     assert list(tmp_path.iterdir()) == []
 
 
+def test_sigint_while_the_command_loads_exits_130_with_one_line():
+    """A Ctrl-C before bitmend.cli has finished importing (here: as numpy is imported) goes through the
+    installed command's entry point: one line, exit 130, no traceback."""
+    stop_at_numpy = ("import sys\n"
+                     "class Stop:\n"
+                     "    def find_spec(self, name, path=None, target=None):\n"
+                     "        if name == 'numpy':\n"
+                     "            raise KeyboardInterrupt\n"
+                     "sys.meta_path.insert(0, Stop())\n"
+                     "from bitmend.entry import run\n"
+                     "sys.exit(run())\n")
+    proc = subprocess.run([sys.executable, "-c", stop_at_numpy, "--version"], capture_output=True, text=True,
+                          timeout=60)
+    assert (proc.returncode, proc.stderr, proc.stdout) == (130, "bitmend: interrupted\n", "")
+
+
 # -- concurrency and permissions ---------------------------------------------------------------------------
 
 def test_concurrent_commits_never_mix_a_pair(tmp_path):
