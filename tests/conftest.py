@@ -45,6 +45,19 @@ def compile_model(model) -> harness.Module:
     return harness.build(model.spec.name, emit.render(model))
 
 
+def hamming_toml(k: int, secded: bool = True, profile: str = "fast") -> str:
+    """Spec text of a Hamming (SEC) or SECDED code over k data bits in one profile."""
+    return f"""[code]
+name = "h{k}{'d' if secded else 's'}{profile}"
+family = "hamming"
+[hamming]
+data_bits = {k}
+secded = {str(secded).lower()}
+[c]
+profile = "{profile}"
+"""
+
+
 def rs_toml(name: str, n: int, k: int, poly: int = 0x11D, first_root: int = 0, root_step: int = 1) -> str:
     """Spec text of a Reed-Solomon code."""
     return f"""[code]

@@ -7,20 +7,7 @@ import numpy as np
 import pytest
 
 from bitmend.codes.hamming import check_bits
-from conftest import compile_model, make_model
-
-
-def spec(k: int, secded: bool = True, profile: str = "fast") -> str:
-    return f"""
-[code]
-name = "h{k}{'d' if secded else 's'}"
-family = "hamming"
-[hamming]
-data_bits = {k}
-secded = {str(secded).lower()}
-[c]
-profile = "{profile}"
-"""
+from conftest import compile_model, hamming_toml, make_model
 
 
 # Check-bit counts of the classic memory codes: common practice, no source
@@ -39,7 +26,7 @@ def test_minimum_check_bits(k, secded, r):
 def test_secded_exhaustive_model(k):
     """(72,64), (39,32), (22,16), (13,8): distinct odd-weight columns, every single error corrected,
     every double error detected, minimum distance 4 (Hsiao's construction, 1970)."""
-    m = make_model(spec(k))
+    m = make_model(hamming_toml(k))
     p = m.properties
     assert (p.n, p.k, p.d) == (k + check_bits(k, True), k, 4)
     H = m.H
@@ -69,14 +56,14 @@ def test_secded_exhaustive_model(k):
 def test_hsiao_72_64_rows_balanced():
     """The (72,64) code: 56 weight-3 and 8 weight-5 columns, every row of weight 26 (Hsiao 1970's
     minimum odd-weight-column code: equal row weights; from memory)."""
-    m = make_model(spec(64))
+    m = make_model(hamming_toml(64))
     w = m.H[:, :64].sum(axis=0)
     assert (w == 3).sum() == 56 and (w == 5).sum() == 8
     assert set(m.H[:, :64].sum(axis=1).tolist()) == {26}
 
 
 def test_sec_64_corrects_every_single_error():
-    m = make_model(spec(64, secded=False))
+    m = make_model(hamming_toml(64, secded=False))
     assert m.properties.n == 71 and m.properties.d == 3
     data = bytes(range(1, 9))
     parity = m.encode(data)
@@ -97,7 +84,7 @@ def _flip(data, parity, bits, n):
 def test_c_secded_every_single_and_double_error(k, profile):
     """The generated C: every single error corrected, every double error detected with both buffers
     untouched, check flags every error."""
-    m = make_model(spec(k, profile=profile))
+    m = make_model(hamming_toml(k, profile=profile))
     mod = compile_model(m)
     data = bytes((37 * i + 11) & 0xFF for i in range(m.properties.data_bytes))
     rc, parity = mod.encode(data, m.properties.parity_bytes)
@@ -115,7 +102,7 @@ def test_c_secded_every_single_and_double_error(k, profile):
 
 @pytest.mark.parametrize("profile", ["fast", "small", "tiny"])
 def test_c_sec_64_every_single_error(profile):
-    m = make_model(spec(64, secded=False, profile=profile))
+    m = make_model(hamming_toml(64, secded=False, profile=profile))
     mod = compile_model(m)
     data = bytes(range(200, 208))
     rc, parity = mod.encode(data, 1)
@@ -127,7 +114,7 @@ def test_c_sec_64_every_single_error(profile):
 
 @pytest.mark.parametrize("profile", ["fast", "small", "tiny"])
 def test_c_length_and_null_arguments(profile):
-    m = make_model(spec(32, profile=profile))
+    m = make_model(hamming_toml(32, profile=profile))
     mod = compile_model(m)
     assert mod.encode(bytes(3), 1)[0] == -2
     assert mod.decode(bytes(5), bytes(1))[0] == -2
@@ -141,7 +128,7 @@ def test_c_length_and_null_arguments(profile):
 
 def test_odd_sizes_padding_never_touched():
     """k not a multiple of 8: padding bits of data and parity are ignored and never changed."""
-    m = make_model(spec(13, profile="small"))
+    m = make_model(hamming_toml(13, profile="small"))
     mod = compile_model(m)
     data = bytes([0xAB, 0xC7])          # low 3 bits of byte 1 are padding
     rc, parity = mod.encode(data, m.properties.parity_bytes)

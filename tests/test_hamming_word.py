@@ -8,22 +8,9 @@ import numpy as np
 import pytest
 
 from bitmend.codes.base import ERR_ARG, ERR_UNCORRECTABLE
-from conftest import compile_model, make_model
+from conftest import compile_model, hamming_toml, make_model
 
 RNG = np.random.default_rng(64)
-
-
-def spec(k: int, secded: bool, profile: str) -> str:
-    return f"""
-[code]
-name = "w{k}{'d' if secded else 's'}{profile}"
-family = "hamming"
-[hamming]
-data_bits = {k}
-secded = {str(secded).lower()}
-[c]
-profile = "{profile}"
-"""
 
 
 class Word:
@@ -56,7 +43,7 @@ CASES = [(8, False, "fast"), (12, True, "tiny"), (16, True, "small"), (32, True,
 
 @pytest.mark.parametrize("k,secded,profile", CASES, ids=[f"{k}{'d' if s else 's'}-{p}" for k, s, p in CASES])
 def test_word_api_equals_the_byte_api(k, secded, profile):
-    model = make_model(spec(k, secded, profile))
+    model = make_model(hamming_toml(k, secded, profile))
     w = Word(model, compile_model(model))
     header_type = {8: 8, 12: 16, 16: 16, 32: 32, 57: 64, 64: 64}[k]     # the smallest uintN_t that holds k bits
     assert w.mod.ffi.sizeof(w.wtype[:-2]) * 8 == header_type
@@ -92,7 +79,7 @@ def test_word_api_equals_the_byte_api(k, secded, profile):
 
 
 def test_bits_above_the_word_are_ignored_and_kept():
-    model = make_model(spec(12, True, "fast"))
+    model = make_model(hamming_toml(12, True, "fast"))
     w = Word(model, compile_model(model))
     word = 0xABC
     checks = w.encode(word)
@@ -103,7 +90,7 @@ def test_bits_above_the_word_are_ignored_and_kept():
 
 
 def test_null_pointers_are_argument_errors():
-    model = make_model(spec(32, True, "fast"))
+    model = make_model(hamming_toml(32, True, "fast"))
     mod = compile_model(model)
     c = mod.ffi.new("uint8_t *", 0)
     assert mod.fn("decode_word")(mod.ffi.NULL, c) == ERR_ARG
@@ -111,6 +98,6 @@ def test_null_pointers_are_argument_errors():
 
 
 def test_no_word_api_beyond_64_bits():
-    model = make_model(spec(65, True, "fast"))
+    model = make_model(hamming_toml(65, True, "fast"))
     from bitmend import emit
-    assert "_encode_word" not in emit.render(model)["w65dfast.h"]
+    assert "_encode_word" not in emit.render(model)["h65dfast.h"]
