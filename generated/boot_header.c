@@ -35,15 +35,18 @@ typedef boot_header_crc_value_t boot_header_reg_t;
 #define BOOT_HEADER_REG_POLY   ((boot_header_reg_t)0xEDB88320UL)
 #define BOOT_HEADER_XOR_OUT    ((boot_header_crc_value_t)0xFFFFFFFFUL)
 
-/* Register update for one input nibble: entries 0..15 are the register after a nibble i enters an empty
- * register, entries 16..31 the same followed by one zero nibble.  Computed by the bitmend model. */
-BOOT_HEADER_TABLE_ATTR static const boot_header_reg_t boot_header_table[32] = {
+/* Register updates for one input nibble i: nibble table 0 holds the register after nibble i enters an empty
+ * register, nibble table 1 the same followed by one zero nibble.  Computed by the bitmend model. */
+BOOT_HEADER_TABLE_ATTR static const boot_header_reg_t boot_header_nibble0[16] = {
     0x00000000UL, 0x1DB71064UL, 0x3B6E20C8UL, 0x26D930ACUL, 0x76DC4190UL, 0x6B6B51F4UL, 0x4DB26158UL, 0x5005713CUL,
-    0xEDB88320UL, 0xF00F9344UL, 0xD6D6A3E8UL, 0xCB61B38CUL, 0x9B64C2B0UL, 0x86D3D2D4UL, 0xA00AE278UL, 0xBDBDF21CUL,
+    0xEDB88320UL, 0xF00F9344UL, 0xD6D6A3E8UL, 0xCB61B38CUL, 0x9B64C2B0UL, 0x86D3D2D4UL, 0xA00AE278UL, 0xBDBDF21CUL
+};
+BOOT_HEADER_TABLE_ATTR static const boot_header_reg_t boot_header_nibble1[16] = {
     0x00000000UL, 0x77073096UL, 0xEE0E612CUL, 0x990951BAUL, 0x076DC419UL, 0x706AF48FUL, 0xE963A535UL, 0x9E6495A3UL,
     0x0EDB8832UL, 0x79DCB8A4UL, 0xE0D5E91EUL, 0x97D2D988UL, 0x09B64C2BUL, 0x7EB17CBDUL, 0xE7B82D07UL, 0x90BF1D91UL
 };
-#define BOOT_HEADER_ENTRY(i) BOOT_HEADER_TABLE_READ32(boot_header_table, i)
+#define BOOT_HEADER_NIBBLE0(i) BOOT_HEADER_TABLE_READ32(boot_header_nibble0, i)
+#define BOOT_HEADER_NIBBLE1(i) BOOT_HEADER_TABLE_READ32(boot_header_nibble1, i)
 
 boot_header_crc_value_t boot_header_crc_start(void)
 {
@@ -54,14 +57,29 @@ boot_header_crc_value_t boot_header_crc_start(void)
 boot_header_crc_value_t boot_header_crc_add(boot_header_crc_value_t state, const uint8_t *data, size_t len)
 {
     boot_header_reg_t reg = state;
-    unsigned x;
+    uint8_t x;
 
     if (data == NULL) {
         return state;
     }
+    for (; len >= 4u; len -= 4u, data += 4) {
+        reg = (boot_header_reg_t)(reg ^ ((uint32_t)data[0]
+                   | ((uint32_t)data[1] << 8)
+                   | ((uint32_t)data[2] << 16)
+                   | ((uint32_t)data[3] << 24)));
+        x = (uint8_t)reg;
+        reg = (boot_header_reg_t)((reg >> 8) ^ BOOT_HEADER_NIBBLE1(x & 0x0Fu) ^ BOOT_HEADER_NIBBLE0(x >> 4));
+        x = (uint8_t)reg;
+        reg = (boot_header_reg_t)((reg >> 8) ^ BOOT_HEADER_NIBBLE1(x & 0x0Fu) ^ BOOT_HEADER_NIBBLE0(x >> 4));
+        x = (uint8_t)reg;
+        reg = (boot_header_reg_t)((reg >> 8) ^ BOOT_HEADER_NIBBLE1(x & 0x0Fu) ^ BOOT_HEADER_NIBBLE0(x >> 4));
+        x = (uint8_t)reg;
+        reg = (boot_header_reg_t)((reg >> 8) ^ BOOT_HEADER_NIBBLE1(x & 0x0Fu) ^ BOOT_HEADER_NIBBLE0(x >> 4));
+    }
     for (; len > 0u; len--, data++) {
-        x = (unsigned)((reg ^ data[0]) & 0xFFu);
-        reg = (boot_header_reg_t)((reg >> 8) ^ BOOT_HEADER_ENTRY(16u + (x & 0x0Fu)) ^ BOOT_HEADER_ENTRY(x >> 4));
+        reg = (boot_header_reg_t)(reg ^ data[0]);
+        x = (uint8_t)reg;
+        reg = (boot_header_reg_t)((reg >> 8) ^ BOOT_HEADER_NIBBLE1(x & 0x0Fu) ^ BOOT_HEADER_NIBBLE0(x >> 4));
     }
     return reg;
 }
