@@ -25,7 +25,7 @@ CODEWORDS = 3               # the all-zero word and two fixed random codewords
 CODEWORD_SEED = 0xB17E      # seed of the random codewords' data
 MAX_WEIGHT = 16             # errors per pattern the driver holds
 MAX_FAILED = 8              # failing ranks reported per shard
-GUARD = 16                  # guard bytes each side of the driver's frame
+GUARD = 32                  # guard bytes between the driver's frames (a multiple of 8)
 RANK_BITS = 63              # C(n, w) * w * V^w must stay below 2^63: the driver's ranks are uint64_t
 CLASSES = ("corrected", "detected", "miscorrected", "wrong")
 
@@ -35,6 +35,13 @@ def shard_decl(name: str) -> str:
             "uint32_t parity_len, const uint32_t *units, uint32_t n_units, uint32_t unit_bits, "
             "uint32_t weight, uint64_t first, uint64_t count, uint8_t *scratch, size_t scratch_len, "
             "uint64_t *counts, uint64_t *failed, uint32_t max_failed)")
+
+
+def scratch_bytes(n_words: int, length: int) -> int:
+    """The driver's scratch for n_words codewords of `length` bytes (its layout: guard, then each frame
+    padded to whole 64-bit words (two at least) and a guard, the padded copies, two padded differences)."""
+    span = max(16, -(-length // 8) * 8)
+    return GUARD + n_words * (2 * span + GUARD) + 2 * span
 
 
 @functools.cache
@@ -133,7 +140,7 @@ class _Runner:
         self.job, self.fn, self.ffi = job, module.fn("prove_shard"), ffi
         self.words = ffi.new("uint8_t[]", job.words)
         self.units = ffi.new("uint32_t[]", list(job.units))
-        self.scratch_len = (CODEWORDS + 2) * (GUARD + job.data_len + job.parity_len)
+        self.scratch_len = scratch_bytes(CODEWORDS, job.data_len + job.parity_len)
         self.scratch = ffi.new("uint8_t[]", self.scratch_len)
         self.counts = ffi.new("uint64_t[4]")
         self.failed = ffi.new("uint64_t[]", MAX_FAILED)

@@ -19,7 +19,7 @@ from pathlib import Path
 import numpy as np
 import pytest
 
-from bitmend import cli, cluster, emit, prove
+from bitmend import cli, cluster, emit, prove, prove_driver
 from bitmend import spec as specmod
 from bitmend.codes import build
 from conftest import EXAMPLES, rs_toml
@@ -280,31 +280,63 @@ def test_scheduler_and_worker_started_by_hand(specs, tmp_path, monkeypatch, caps
                     proc.wait()
 
 
-@pytest.mark.parametrize("after, wrong, first_lines", [
-    # a return that breaks the contract: 2 after correcting one error; every single error (7) and every
-    # double one (21, miscorrected by one flip) now returns 2
-    ("return rc == 1 ? 2 : rc;", 28, ["weight 1 rank 0: data bit 0", "weight 1 rank 6: parity bit 2",
-                                      "weight 2 rank 0: data bit 0, data bit 1"]),
-    # a write one byte past the parity buffer (into the driver's guard bytes) on every call
-    ("parity[1] = 0;\n    return rc;", 28, ["weight 1 rank 0: data bit 0"]),
-])
-def test_a_wrong_decoder_is_caught(specs, address, monkeypatch, capsys, after, wrong, first_lines):
+def break_decoder(monkeypatch, before: str, after: str) -> None:
+    """h74_decode wrapped: `before` runs on the received word, `after` once the real decoder returned rc."""
     render = emit.render
 
     def broken(model, env=None):
         files = dict(render(model, env))
         c = files["h74.c"].replace("int h74_decode(", "static int h74_decode_real(", 1)
         files["h74.c"] = c + ("int h74_decode(uint8_t *data, size_t data_len, uint8_t *parity)\n"
-                              "{\n    int rc = h74_decode_real(data, data_len, parity);\n"
+                              f"{{\n    int rc;\n    {before}\n    rc = h74_decode_real(data, data_len, parity);\n"
                               f"    {after}\n}}\n")
         return files
 
     monkeypatch.setattr(emit, "render", broken)
+
+
+@pytest.mark.parametrize("after, wrong, first_lines", [
+    # a return that breaks the contract: 2 after correcting one error; every single error (7) and every
+    # double one (21, miscorrected by one flip) now returns 2
+    ("return rc == 1 ? 2 : rc;", 28, ["weight 1 rank 0: data bit 0", "weight 1 rank 6: parity bit 2",
+                                      "weight 2 rank 0: data bit 0, data bit 1"]),
+    # a write one byte past the parity buffer (into the driver's padding and guard bytes) on every call
+    ("parity[1] = 0;\n    return rc;", 28, ["weight 1 rank 0: data bit 0"]),
+])
+def test_a_wrong_decoder_is_caught(specs, address, monkeypatch, capsys, after, wrong, first_lines):
+    break_decoder(monkeypatch, "", after)
     assert cli.main(["prove", str(specs["h74"]), "--max-weight", "2", "--scheduler", address]) == 1
     out = capsys.readouterr().out
     assert f"{wrong} patterns decoded wrongly" in out
     for line in first_lines:                   # units: 4 data bits, then 3 parity bits
         assert f"! wrong: {line}\n" in out
+
+
+def test_a_stray_write_is_named_for_its_patterns_alone(specs, address, monkeypatch):
+    """A decoder that writes 20 bytes before its data buffer on one received word only.  The driver's guards
+    are compared with the guard byte itself, so when the shard runs again pattern by pattern only the
+    patterns that produce that word are wrong (a reference copy of the guard within reach of the write
+    made every later pattern of the shard look guilty)."""
+    trigger = (0x80, 0x00)                     # data bit 0 set, parity 0: the all-zero word's weight-1 rank 0
+    job = prove_driver.make_job(build(specmod.load(specs["h74"])), 1)
+    words = [job.words[i:i + 2] for i in range(0, len(job.words), 2)]
+    culprits = []
+    for weight in (1, 2):
+        for rank in range(job.patterns(weight)):
+            hit = False
+            for word in words:
+                got = bytearray(word)
+                for unit, _ in job.pattern(weight, rank):
+                    got[job.units[unit] // 8] ^= 0x80 >> job.units[unit] % 8
+                hit |= tuple(got) == trigger
+            if hit:
+                culprits.append((weight, rank))
+    assert culprits[0] == (1, 0) and len(culprits) < 28 // 2
+    break_decoder(monkeypatch, f"if (data[0] == {trigger[0]:#x}u && parity[0] == {trigger[1]:#x}u) {{\n"
+                               "        data[-20] = 0;\n    }", "return rc;")
+    cert = certify(specs["h74"], address, max_weight=2)
+    assert cert.wrong == len(culprits)
+    assert cert.failures == culprits
 
 
 # -- the CLI's errors: one line, exit 2, nothing written ----------------------------------------------------
