@@ -203,10 +203,11 @@ def test_resumed_run_gives_the_same_totals(specs, address, tmp_path):
 def test_ctrl_c_stops_cleanly(tmp_path):
     """Ctrl-C on a terminal signals the whole process group: the default local cluster's workers ignore it,
     the client stops, shuts its cluster down and leaves no process behind."""
-    # the 512-byte sector's code at data_len 4: 136 error bits, 410,040 patterns of weight 3
+    # the 512-byte sector's code at data_len 16: 232 error bits, 2,054,360 patterns of weight 3 (about ten
+    # shards of a second, so the run is still going when the first one is recorded)
     state = tmp_path / "state.jsonl"
     flash = [p for p in EXAMPLES if p.name == "flash_page.toml"][0]
-    args = [str(flash), "--data-len", "4", "--max-weight", "3", "--state", str(state)]
+    args = [str(flash), "--data-len", "16", "--max-weight", "3", "--state", str(state)]
     proc = subprocess.Popen([sys.executable, "-m", "bitmend.cli", "prove", *args], start_new_session=True,
                             stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True)
     try:
@@ -232,11 +233,11 @@ def test_ctrl_c_stops_cleanly(tmp_path):
     records = [json.loads(line) for line in state.read_text().splitlines()]
     done3 = [r for r in records if r.get("done") and r["weight"] == 3]
     shard3 = next(r["shard"] for r in records if r.get("plan") and r["weight"] == 3)
-    assert 1 <= len(done3) < math.ceil(math.comb(136, 3) / shard3)          # really stopped half-way
+    assert 1 <= len(done3) < math.ceil(math.comb(232, 3) / shard3)          # really stopped half-way
     # t = 8: every pattern of weight <= 3 that ran was corrected (bounded-distance decoding)
     ran = sum(r["count"] for r in done3)
     assert all(r["counts"] == [r["count"], 0, 0, 0] for r in done3)
-    assert f"       3        410,040 {ran:>14,}" in out
+    assert f"       3      {math.comb(232, 3):>9,} {ran:>14,}" in out
 
 
 def test_scheduler_and_worker_started_by_hand(specs, tmp_path, monkeypatch, capsys):
