@@ -19,7 +19,7 @@ from pathlib import Path
 import numpy as np
 import pytest
 
-from bitmend import cli, cluster, emit, prove, prove_driver
+from bitmend import cli, cluster, emit, prove, prove_driver, target
 from bitmend import spec as specmod
 from bitmend.codes import build
 from conftest import EXAMPLES, rs_toml
@@ -338,6 +338,52 @@ def test_a_stray_write_is_named_for_its_patterns_alone(specs, address, monkeypat
     cert = certify(specs["h74"], address, max_weight=2)
     assert cert.wrong == len(culprits)
     assert cert.failures == culprits
+
+
+ENDIAN_MAIN = """\
+#include <stdio.h>
+#include "{name}.h"
+
+{decl};
+
+static const uint8_t words[] = {{{words}}};
+static const uint32_t units[] = {{{units}}};
+static uint8_t scratch[{scratch}];
+
+int main(void)
+{{
+    uint64_t counts[4], failed[1];
+    int rc = {name}_prove_shard(words, {n_words}u, {data_len}u, {parity_len}u, units, {n_units}u, {unit_bits}u,
+                                {weight}u, {first}u, {count}u, scratch, sizeof scratch, counts, failed, 0u);
+    printf("rc %d counts %lu %lu %lu %lu\\n", rc, (unsigned long)counts[0], (unsigned long)counts[1],
+           (unsigned long)counts[2], (unsigned long)counts[3]);
+    return 0;
+}}
+"""
+
+
+@pytest.mark.parametrize("key, data_len, weight, count", [
+    ("secded", 8, 3, None),                    # every weight-3 pattern: detected and miscorrected ones
+    ("rs4", 2, 2, 20000),                      # symbols: masks that carry a value, not a bit
+])
+def test_a_big_endian_core_counts_the_same(specs, key, data_len, weight, count):
+    """The driver XORs patterns in and compares frames 64 bits at a time, with masks it builds byte by byte;
+    on big-endian MIPS (under qemu) a shard gives the counts it gives here."""
+    mips = target.TARGETS["mips"]
+    if mips.missing():
+        pytest.skip(mips.missing())
+    job = prove_driver.make_job(build(specmod.load(specs[key])), data_len)
+    count = count or job.patterns(weight)
+    host, _ = prove_driver.runner(job).run(weight, 0, count)
+    main = ENDIAN_MAIN.format(
+        name=job.name, decl=prove_driver.shard_decl(job.name), words=", ".join(map(str, job.words)),
+        units=", ".join(map(str, job.units)), n_words=prove_driver.CODEWORDS, data_len=job.data_len,
+        parity_len=job.parity_len, n_units=len(job.units), unit_bits=job.unit_bits, weight=weight, first=0,
+        count=count, scratch=prove_driver.scratch_bytes(prove_driver.CODEWORDS, job.data_len + job.parity_len))
+    program = target.build_program({**job.files, "endian_main.c": main}, mips.cc, (*mips.flags, "-O2"), True)
+    res = subprocess.run([*mips.run, str(program)], capture_output=True, text=True, timeout=120)
+    assert res.stdout.split() == ["rc", "0", "counts", *map(str, host)], res.stderr
+    assert sum(host) == count and host[3] == 0
 
 
 # -- the CLI's errors: one line, exit 2, nothing written ----------------------------------------------------
