@@ -10,6 +10,7 @@ from __future__ import annotations
 
 import contextlib
 import fcntl
+import functools
 import os
 import re
 import signal
@@ -35,7 +36,10 @@ def _clit(value: int, bits: int) -> str:
     return f"0x{value:0{digits}X}{suffix}"
 
 
+@functools.cache
 def environment() -> jinja2.Environment:
+    """One environment per process: its templates are compiled once (Jinja2 still reloads a template whose
+    file changed)."""
     loader = jinja2.FileSystemLoader(str(resources.files("bitmend") / "templates"))
     env = jinja2.Environment(loader=loader, undefined=jinja2.StrictUndefined, trim_blocks=True,
                              lstrip_blocks=True, keep_trailing_newline=True, autoescape=False)
