@@ -27,8 +27,10 @@ generate: $(VENV)/.installed
 firmware: $(VENV)/.installed
 	$(MAKE) -C examples/firmware BITMEND=$(CURDIR)/$(BIN)/bitmend run
 
+# The suite runs on every core (pytest-xdist); TEST_JOBS=1 runs it in one process.
+TEST_JOBS ?= auto
 test: $(VENV)/.installed-test
-	$(BIN)/python -m pytest
+	$(BIN)/python -m pytest -n $(TEST_JOBS) --dist worksteal
 
 # The fuzz tests of the suite, run long: libFuzzer inputs per C target, examples per spec property.
 FUZZ_RUNS     ?= 300000
