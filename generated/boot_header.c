@@ -62,15 +62,9 @@ boot_header_crc_value_t boot_header_crc_add(boot_header_crc_value_t state, const
     if (data == NULL) {
         return state;
     }
-    for (; len >= 4u; len -= 4u, data += 4) {
+    for (; len >= 2u; len -= 2u, data += 2) {
         reg = (boot_header_reg_t)(reg ^ ((uint32_t)data[0]
-                   | ((uint32_t)data[1] << 8)
-                   | ((uint32_t)data[2] << 16)
-                   | ((uint32_t)data[3] << 24)));
-        x = (uint8_t)reg;
-        reg = (boot_header_reg_t)((reg >> 8) ^ BOOT_HEADER_NIBBLE1(x & 0x0Fu) ^ BOOT_HEADER_NIBBLE0(x >> 4));
-        x = (uint8_t)reg;
-        reg = (boot_header_reg_t)((reg >> 8) ^ BOOT_HEADER_NIBBLE1(x & 0x0Fu) ^ BOOT_HEADER_NIBBLE0(x >> 4));
+                   | ((uint32_t)data[1] << 8)));
         x = (uint8_t)reg;
         reg = (boot_header_reg_t)((reg >> 8) ^ BOOT_HEADER_NIBBLE1(x & 0x0Fu) ^ BOOT_HEADER_NIBBLE0(x >> 4));
         x = (uint8_t)reg;
