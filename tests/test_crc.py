@@ -183,10 +183,9 @@ def test_generated_c_every_width(profile, tmp_path):
     (held against crccheck and the catalogue above): one-shot at data offsets 0..3 and lengths around the
     word steps, and piece by piece split at several points; strict flags, one program per profile."""
     entries = _every_width_entries()
-    env = emit.environment()            # one environment: its templates are compiled once
     sources, lines = [], ["#include <stdio.h>", "#include <stdint.h>"]
     for i, entry in enumerate(entries):
-        for fname, text in emit.render(make_model(spec_text(i, entry), profile), env).items():
+        for fname, text in emit.render(make_model(spec_text(i, entry), profile)).items():
             (tmp_path / fname).write_text(text)
             if fname.endswith(".c"):
                 sources.append(str(tmp_path / fname))
