@@ -230,3 +230,24 @@ def step_context(block_remainder, words: int, unrolled: bool, budget: int) -> di
         "tail": [c for c in chunks if c["shift"] < 8],      # a step of up to 8 bits
         "rest": {b: STEP_BITS - b for b in range(1, 9)},
     }
+
+
+def field_context(field: Field, exp_doubled: bool) -> dict:
+    """What templates/_gf_decode.j2 prints for the decoders' arithmetic in `field` (BCH and Reed-Solomon alike).
+
+    Elements are the smallest uintN_t that holds m bits; `uint` is an unsigned type wide enough for a sum of
+    two logs (< 2 (2^m - 1)) and for the shift-and-add product's intermediate (< 2^(m+1)): plain `unsigned`
+    (at least 16 bits) up to m = 8, else uint32_t.  `exp_doubled`: the exp table runs on to 2 (2^m - 1)
+    entries, so a sum of two logs needs no reduction before the look-up.
+    """
+    bits = 8 if field.m <= 8 else 16
+    return {
+        "m": field.m,
+        "order": field.order,
+        "elem": f"uint{bits}_t",
+        "bits": bits,
+        "uint": "unsigned" if field.m <= 8 else "uint32_t",
+        "top": 1 << (field.m - 1),                      # x^(m-1): the bit that overflows on doubling
+        "low": field.poly ^ (1 << field.m),             # alpha^m = the field polynomial without x^m
+        "exp_doubled": exp_doubled,
+    }

@@ -24,8 +24,8 @@ from __future__ import annotations
 
 import numpy as np
 
-from ..gf import (DEFAULT_PRIMITIVE, Field, bin_mod, bin_mul, cyclotomic_coset, degree, is_primitive,
-                  step_context)
+from ..gf import (DEFAULT_PRIMITIVE, Field, bin_mod, bin_mul, cyclotomic_coset, degree, field_context,
+                  is_primitive, step_context)
 from ..spec import Spec, SpecError
 from .base import ERR_LENGTH, ERR_UNCORRECTABLE, CodeModel, Properties, ctype_bytes
 
@@ -62,8 +62,9 @@ def generator_polynomial(field: Field, t: int) -> int:
 
 class Bch(CodeModel):
     template = "bch"
-    # decode > locator > mul (tiny: decode > locator > inv > mul); one spare level for the compiler's helpers
-    call_depth = 5
+    # decode > berlekamp > inv_factor > inv > mul in the tiny profile (the others are shallower); one spare
+    # level for the compiler's helpers
+    call_depth = 6
 
     def __init__(self, spec: Spec):
         super().__init__(spec)
@@ -158,8 +159,8 @@ class Bch(CodeModel):
         """Local arrays of the generated decode chain (all counted at once, whatever the compiler inlines)."""
         es = ctype_bytes(self.gf_ctype)
         t = self.t
-        decode = 4 * self.reg_words + 2 * t * es + (t + 1) * es + 2 * t      # reg, synd, c, where
-        locator = 2 * (t + 1) * es                                           # prev, copy
+        decode = 4 * self.reg_words + 2 * t * es + (2 * t + 1) * es + 2 * t  # reg, synd, c, where
+        locator = (2 * t + 1) * es                                           # berlekamp(): b
         if self.spec.profile == "tiny":
             roots = t * es + 2 * t                                           # term, power
         else:
@@ -344,6 +345,7 @@ class Bch(CodeModel):
             "reg_bits": WORD_BITS * self.reg_words,
             "reg_last": self.reg_words - 1,
             "gf_ctype": self.gf_ctype,
+            "field": field_context(self.field, exp_doubled=False),
             "gf_bits": 8 * es,
             "field_poly": self.field_poly,
             "field_top": 1 << (self.m - 1),

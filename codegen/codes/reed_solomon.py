@@ -27,7 +27,7 @@ import math
 
 import numpy as np
 
-from ..gf import Field, degree, is_primitive, step_context
+from ..gf import Field, degree, field_context, is_primitive, step_context
 from ..spec import Spec, SpecError
 from .base import ERR_ARG, ERR_LENGTH, ERR_UNCORRECTABLE, FRAME_BYTES, CodeModel, Properties
 
@@ -336,7 +336,7 @@ class ReedSolomon(CodeModel):
             "call_depth": self.call_depth,
             "t": self.t,
             "field_poly": self.field_poly,
-            "field_poly_low": self.field_poly & 0xFF,
+            "field": field_context(self.gf, exp_doubled=self.spec.profile == "fast"),
             "first_root": self.first_root,
             "root_step": self.root_step,
             "generator": self.generator,
