@@ -28,8 +28,16 @@
 #define ARCHIVE_BLOCK_TABLE_READ64(table, index) ((table)[index])
 #endif
 
+typedef uint8_t archive_block_gf_t;      /* an element of GF(2^8), polynomial basis */
+typedef unsigned archive_block_uint_t;   /* holds a sum of two logs, and a product before its reduction */
+
+#define ARCHIVE_BLOCK_FIELD_M    8u   /* bits of a field element */
+#define ARCHIVE_BLOCK_ORDER      ((archive_block_uint_t)255u)   /* 2^m - 1: order of alpha */
+#define ARCHIVE_BLOCK_EXP(i) ARCHIVE_BLOCK_TABLE_READ8(archive_block_exp, i)
+#define ARCHIVE_BLOCK_LOG(x) ARCHIVE_BLOCK_TABLE_READ8(archive_block_log, x)
+
+
 #define ARCHIVE_BLOCK_NROOTS        32u   /* parity symbols n - k: the generator's degree */
-#define ARCHIVE_BLOCK_ORDER         255u  /* multiplicative group order 2^8 - 1 */
 #define ARCHIVE_BLOCK_ZERO_LOG      255u  /* marks a zero coefficient among logs (which are 0..254) */
 #define ARCHIVE_BLOCK_BETA_LOG      11u   /* log_alpha of beta */
 #define ARCHIVE_BLOCK_BETA_INV_LOG  244u  /* log_alpha of beta^-1 */
@@ -998,56 +1006,54 @@ ARCHIVE_BLOCK_TABLE_ATTR static const uint8_t archive_block_log[256] = {
     0x2Eu, 0x4Bu, 0xB9u, 0x60u, 0x0Fu, 0xEDu, 0x3Eu, 0xE5u, 0xF6u, 0x87u, 0xA5u, 0x17u, 0x3Au, 0xA3u, 0x3Cu, 0xB7u
 };
 
-#define ARCHIVE_BLOCK_EXP(i) ARCHIVE_BLOCK_TABLE_READ8(archive_block_exp, i)
-#define ARCHIVE_BLOCK_LOG(x) ARCHIVE_BLOCK_TABLE_READ8(archive_block_log, x)
-
 /* -- GF(2^8) arithmetic ------------------------------------------------------------------------------ */
 
-/* alpha^i for 0 <= i < 510. */
-static uint8_t archive_block_exp_of(unsigned i)
+/* x mod 2^m - 1 without a division: 2^m = 1 there, so the high bits fold onto the low ones. */
+static archive_block_uint_t archive_block_mod_order(archive_block_uint_t x)
+{
+    while ((x >> ARCHIVE_BLOCK_FIELD_M) != 0u) {
+        x = (x & ARCHIVE_BLOCK_ORDER) + (x >> ARCHIVE_BLOCK_FIELD_M);
+    }
+    return x >= ARCHIVE_BLOCK_ORDER ? x - ARCHIVE_BLOCK_ORDER : x;
+}
+
+/* alpha^i for 0 <= i < 2 (2^m - 1): a sum of two logs. */
+static archive_block_gf_t archive_block_exp_of(archive_block_uint_t i)
 {
     return ARCHIVE_BLOCK_EXP(i);
 }
 
-/* x mod 255 without a division: 256 = 1 there, so the high byte folds onto the low one. */
-static unsigned archive_block_mod255(unsigned x)
-{
-    while (x > ARCHIVE_BLOCK_ORDER) {
-        x = (x & 0xFFu) + (x >> 8);
-    }
-    return x == ARCHIVE_BLOCK_ORDER ? 0u : x;
-}
-
-static uint8_t archive_block_mul(uint8_t a, uint8_t b)
+static archive_block_gf_t archive_block_mul(archive_block_gf_t a, archive_block_gf_t b)
 {
     if (a == 0u || b == 0u) {
-        return 0u;
+        return 0;
     }
-    return archive_block_exp_of((unsigned)ARCHIVE_BLOCK_LOG(a) + ARCHIVE_BLOCK_LOG(b));
+    return archive_block_exp_of((archive_block_uint_t)ARCHIVE_BLOCK_LOG(a) + ARCHIVE_BLOCK_LOG(b));
 }
 
-/* beta^p */
-static uint8_t archive_block_beta_pow(unsigned p)
-{
-    return archive_block_exp_of(archive_block_mod255(p * ARCHIVE_BLOCK_BETA_LOG));
-}
-
-/* A multiplier prepared once for several products: its log, x != 0. */
-static unsigned archive_block_factor(uint8_t x)
+/* x as a prepared multiplier: its log, x != 0. */
+static archive_block_uint_t archive_block_factor(archive_block_gf_t x)
 {
     return ARCHIVE_BLOCK_LOG(x);
 }
 
-/* 1 / x as a prepared multiplier (a log, 1..255), x != 0. */
-static unsigned archive_block_inv_factor(uint8_t x)
+/* 1 / x as a prepared multiplier (a log, 1 .. 2^m - 1), x != 0. */
+static archive_block_uint_t archive_block_inv_factor(archive_block_gf_t x)
 {
     return ARCHIVE_BLOCK_ORDER - ARCHIVE_BLOCK_LOG(x);
 }
 
 /* a times a prepared multiplier f. */
-static uint8_t archive_block_scale(uint8_t a, unsigned f)
+static archive_block_gf_t archive_block_scale(archive_block_gf_t a, archive_block_uint_t f)
 {
-    return a == 0u ? (uint8_t)0u : archive_block_exp_of((unsigned)ARCHIVE_BLOCK_LOG(a) + f);
+    return a == 0u ? (archive_block_gf_t)0u : archive_block_exp_of((archive_block_uint_t)ARCHIVE_BLOCK_LOG(a) + f);
+}
+
+
+/* beta^p */
+static uint8_t archive_block_beta_pow(unsigned p)
+{
+    return archive_block_exp_of(archive_block_mod_order(p * ARCHIVE_BLOCK_BETA_LOG));
 }
 
 /* -- encoder ----------------------------------------------------------------------------------------- */
@@ -1239,12 +1245,14 @@ static void archive_block_syndromes(const uint8_t rem[ARCHIVE_BLOCK_NROOTS], uin
     }
 }
 
-/* Berlekamp-Massey started from the erasure locator already in lam (degree `erasures`, lowest degree
- * first); on return lam is the errata locator.  Returns the count of errors (beyond the erasures). */
-static unsigned archive_block_berlekamp(const uint8_t synd[ARCHIVE_BLOCK_NROOTS], uint8_t lam[ARCHIVE_BLOCK_NROOTS + 1u],
-                                  unsigned erasures)
+/* Berlekamp-Massey over S = synd[0 .. ARCHIVE_BLOCK_NROOTS), started from the erasure locator in lam (degree `erasures`,
+ * lowest degree first, zero above); on return lam is the errata locator Lambda.  Returns the count of errors
+ * beyond the erasures, or -1 when no word within the code's reach has these syndromes: when
+ * 2 errors + erasures exceeds ARCHIVE_BLOCK_NROOTS, or deg Lambda differs from errors + erasures. */
+static int archive_block_berlekamp(const archive_block_gf_t synd[ARCHIVE_BLOCK_NROOTS], archive_block_gf_t lam[ARCHIVE_BLOCK_NROOTS + 1u],
+                        unsigned erasures)
 {
-    uint8_t b[ARCHIVE_BLOCK_NROOTS + 1u];
+    archive_block_gf_t b[ARCHIVE_BLOCK_NROOTS + 1u];
     unsigned errors = 0;
     unsigned ld = erasures;            /* lam[j] == 0 for j > ld */
     unsigned bd = erasures;            /* b[j] == 0 for j > bd */
@@ -1253,10 +1261,10 @@ static unsigned archive_block_berlekamp(const uint8_t synd[ARCHIVE_BLOCK_NROOTS]
     unsigned j;
     unsigned k;                        /* loops count k up, j = top - k down: avr-gcc 5 -O3 misreads a */
                                        /* plain downward loop as out of bounds (-Warray-bounds) */
-    unsigned fd;
-    unsigned fi;
-    uint8_t delta;
-    uint8_t old;
+    archive_block_uint_t fd;
+    archive_block_uint_t fi;
+    archive_block_gf_t delta;
+    archive_block_gf_t old;
 
     for (j = 0; j <= ARCHIVE_BLOCK_NROOTS; j++) {
         b[j] = lam[j];
@@ -1264,7 +1272,7 @@ static unsigned archive_block_berlekamp(const uint8_t synd[ARCHIVE_BLOCK_NROOTS]
     for (r = erasures; r < ARCHIVE_BLOCK_NROOTS; r++) {
         delta = 0u;
         for (j = 0; j <= ld && j <= r; j++) {
-            delta ^= archive_block_mul(lam[j], synd[r - j]);
+            delta = (archive_block_gf_t)(delta ^ archive_block_mul(lam[j], synd[r - j]));
         }
         top = ld > bd + 1u ? ld : bd + 1u;
         if (top > ARCHIVE_BLOCK_NROOTS) {
@@ -1285,19 +1293,22 @@ static unsigned archive_block_berlekamp(const uint8_t synd[ARCHIVE_BLOCK_NROOTS]
             for (k = 0; k < top; k++) {
                 j = top - k;
                 old = lam[j];
-                lam[j] = (uint8_t)(old ^ archive_block_scale(b[j - 1u], fd));
+                lam[j] = (archive_block_gf_t)(old ^ archive_block_scale(b[j - 1u], fd));
                 b[j] = archive_block_scale(old, fi);
             }
             b[0] = archive_block_scale(lam[0], fi);
             bd = ld;
             ld = top;
             errors = r + 1u - errors - erasures;
+            if (2u * errors + erasures > ARCHIVE_BLOCK_NROOTS) {
+                return -1;
+            }
         } else {
             /* lam <- lam - delta x b, b <- x b */
             fd = archive_block_factor(delta);
             for (k = 0; k < top; k++) {
                 j = top - k;
-                lam[j] = (uint8_t)(lam[j] ^ archive_block_scale(b[j - 1u], fd));
+                lam[j] = (archive_block_gf_t)(lam[j] ^ archive_block_scale(b[j - 1u], fd));
                 b[j] = b[j - 1u];
             }
             b[0] = 0u;
@@ -1305,7 +1316,10 @@ static unsigned archive_block_berlekamp(const uint8_t synd[ARCHIVE_BLOCK_NROOTS]
             ld = top;
         }
     }
-    return errors;
+    while (ld > 0u && lam[ld] == 0u) {
+        ld--;
+    }
+    return ld == errors + erasures ? (int)errors : -1;
 }
 
 /* Chien search over the transmitted positions only: power p = 0 .. total-1 (p = 0 is the last parity
@@ -1339,7 +1353,7 @@ static unsigned archive_block_chien(const uint8_t lam[ARCHIVE_BLOCK_NROOTS + 1u]
             if (lam[i] != 0u) {
                 lg[nt] = ARCHIVE_BLOCK_LOG(lam[i]);
                 for (k = 0; k < 4u; k++) {
-                    st[k][nt] = (uint16_t)archive_block_mod255((k + 1u) * archive_block_mod255(i * ARCHIVE_BLOCK_BETA_INV_LOG));
+                    st[k][nt] = (uint16_t)archive_block_mod_order((k + 1u) * archive_block_mod_order(i * ARCHIVE_BLOCK_BETA_INV_LOG));
                 }
                 nt++;
             }
@@ -1414,7 +1428,7 @@ static void archive_block_forney(const uint8_t synd[ARCHIVE_BLOCK_NROOTS], const
     }
     for (f = 0; f < deg; f++) {
         p = where[f];
-        xl = archive_block_mod255(p * ARCHIVE_BLOCK_BETA_INV_LOG);
+        xl = archive_block_mod_order(p * ARCHIVE_BLOCK_BETA_INV_LOG);
         acc = om[deg - 1u];
         for (j = 1; j < deg; j++) {            /* Horner from the top; counting up keeps avr-gcc 5 -O3 quiet */
             if (acc != 0u) {
@@ -1425,8 +1439,8 @@ static void archive_block_forney(const uint8_t synd[ARCHIVE_BLOCK_NROOTS], const
         if (acc == 0u) {
             value[f] = 0u;
         } else {
-            value[f] = archive_block_exp_of(archive_block_mod255((unsigned)ARCHIVE_BLOCK_LOG(acc) + 2u * ARCHIVE_BLOCK_ORDER
-                                                     - ARCHIVE_BLOCK_LOG(odd_part[f]) - archive_block_mod255(p * ARCHIVE_BLOCK_FR_LOG)));
+            value[f] = archive_block_exp_of(archive_block_mod_order((unsigned)ARCHIVE_BLOCK_LOG(acc) + 2u * ARCHIVE_BLOCK_ORDER
+                                                     - ARCHIVE_BLOCK_LOG(odd_part[f]) - archive_block_mod_order(p * ARCHIVE_BLOCK_FR_LOG)));
         }
     }
 }
@@ -1444,7 +1458,7 @@ static int archive_block_correct(uint8_t *data, size_t data_len, uint8_t *parity
     uint8_t value[ARCHIVE_BLOCK_NROOTS];
     unsigned total = (unsigned)data_len + ARCHIVE_BLOCK_NROOTS;
     unsigned diff = 0;
-    unsigned errors;
+    int errors;
     unsigned deg;
     unsigned fixes = 0;
     unsigned pos;
@@ -1478,13 +1492,10 @@ static int archive_block_correct(uint8_t *data, size_t data_len, uint8_t *parity
         }
     }
     errors = archive_block_berlekamp(synd, lam, count);
-    deg = ARCHIVE_BLOCK_NROOTS;
-    while (deg > 0u && lam[deg] == 0u) {
-        deg--;
-    }
-    if (2u * errors + count > ARCHIVE_BLOCK_NROOTS || deg != count + errors) {
+    if (errors < 0) {
         return ARCHIVE_BLOCK_ERR_UNCORRECTABLE;
     }
+    deg = count + (unsigned)errors;
     if (archive_block_chien(lam, deg, total, where, odd_part) != deg) {
         return ARCHIVE_BLOCK_ERR_UNCORRECTABLE;   /* too many errors, or one in a shortened-away symbol */
     }

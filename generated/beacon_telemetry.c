@@ -28,8 +28,16 @@
 #define BEACON_TELEMETRY_TABLE_READ64(table, index) ((table)[index])
 #endif
 
+typedef uint8_t beacon_telemetry_gf_t;      /* an element of GF(2^8), polynomial basis */
+typedef unsigned beacon_telemetry_uint_t;   /* holds a sum of two logs, and a product before its reduction */
+
+#define BEACON_TELEMETRY_FIELD_M    8u   /* bits of a field element */
+#define BEACON_TELEMETRY_ORDER      ((beacon_telemetry_uint_t)255u)   /* 2^m - 1: order of alpha */
+#define BEACON_TELEMETRY_EXP(i) BEACON_TELEMETRY_TABLE_READ8(beacon_telemetry_exp, i)
+#define BEACON_TELEMETRY_LOG(x) BEACON_TELEMETRY_TABLE_READ8(beacon_telemetry_log, x)
+
+
 #define BEACON_TELEMETRY_NROOTS        8u   /* parity symbols n - k: the generator's degree */
-#define BEACON_TELEMETRY_ORDER         255u  /* multiplicative group order 2^8 - 1 */
 #define BEACON_TELEMETRY_ZERO_LOG      255u  /* marks a zero coefficient among logs (which are 0..254) */
 #define BEACON_TELEMETRY_BETA_LOG      1u   /* log_alpha of beta */
 #define BEACON_TELEMETRY_BETA_INV_LOG  254u  /* log_alpha of beta^-1 */
@@ -81,56 +89,54 @@ BEACON_TELEMETRY_TABLE_ATTR static const uint8_t beacon_telemetry_log[256] = {
     0x4Fu, 0xAEu, 0xD5u, 0xE9u, 0xE6u, 0xE7u, 0xADu, 0xE8u, 0x74u, 0xD6u, 0xF4u, 0xEAu, 0xA8u, 0x50u, 0x58u, 0xAFu
 };
 
-#define BEACON_TELEMETRY_EXP(i) BEACON_TELEMETRY_TABLE_READ8(beacon_telemetry_exp, i)
-#define BEACON_TELEMETRY_LOG(x) BEACON_TELEMETRY_TABLE_READ8(beacon_telemetry_log, x)
-
 /* -- GF(2^8) arithmetic ------------------------------------------------------------------------------ */
 
-/* alpha^i for 0 <= i < 510. */
-static uint8_t beacon_telemetry_exp_of(unsigned i)
+/* x mod 2^m - 1 without a division: 2^m = 1 there, so the high bits fold onto the low ones. */
+static beacon_telemetry_uint_t beacon_telemetry_mod_order(beacon_telemetry_uint_t x)
+{
+    while ((x >> BEACON_TELEMETRY_FIELD_M) != 0u) {
+        x = (x & BEACON_TELEMETRY_ORDER) + (x >> BEACON_TELEMETRY_FIELD_M);
+    }
+    return x >= BEACON_TELEMETRY_ORDER ? x - BEACON_TELEMETRY_ORDER : x;
+}
+
+/* alpha^i for 0 <= i < 2 (2^m - 1): a sum of two logs. */
+static beacon_telemetry_gf_t beacon_telemetry_exp_of(beacon_telemetry_uint_t i)
 {
     return BEACON_TELEMETRY_EXP(i >= BEACON_TELEMETRY_ORDER ? i - BEACON_TELEMETRY_ORDER : i);
 }
 
-/* x mod 255 without a division: 256 = 1 there, so the high byte folds onto the low one. */
-static unsigned beacon_telemetry_mod255(unsigned x)
-{
-    while (x > BEACON_TELEMETRY_ORDER) {
-        x = (x & 0xFFu) + (x >> 8);
-    }
-    return x == BEACON_TELEMETRY_ORDER ? 0u : x;
-}
-
-static uint8_t beacon_telemetry_mul(uint8_t a, uint8_t b)
+static beacon_telemetry_gf_t beacon_telemetry_mul(beacon_telemetry_gf_t a, beacon_telemetry_gf_t b)
 {
     if (a == 0u || b == 0u) {
-        return 0u;
+        return 0;
     }
-    return beacon_telemetry_exp_of((unsigned)BEACON_TELEMETRY_LOG(a) + BEACON_TELEMETRY_LOG(b));
+    return beacon_telemetry_exp_of((beacon_telemetry_uint_t)BEACON_TELEMETRY_LOG(a) + BEACON_TELEMETRY_LOG(b));
 }
 
-/* beta^p */
-static uint8_t beacon_telemetry_beta_pow(unsigned p)
-{
-    return beacon_telemetry_exp_of(beacon_telemetry_mod255(p * BEACON_TELEMETRY_BETA_LOG));
-}
-
-/* A multiplier prepared once for several products: its log, x != 0. */
-static unsigned beacon_telemetry_factor(uint8_t x)
+/* x as a prepared multiplier: its log, x != 0. */
+static beacon_telemetry_uint_t beacon_telemetry_factor(beacon_telemetry_gf_t x)
 {
     return BEACON_TELEMETRY_LOG(x);
 }
 
-/* 1 / x as a prepared multiplier (a log, 1..255), x != 0. */
-static unsigned beacon_telemetry_inv_factor(uint8_t x)
+/* 1 / x as a prepared multiplier (a log, 1 .. 2^m - 1), x != 0. */
+static beacon_telemetry_uint_t beacon_telemetry_inv_factor(beacon_telemetry_gf_t x)
 {
     return BEACON_TELEMETRY_ORDER - BEACON_TELEMETRY_LOG(x);
 }
 
 /* a times a prepared multiplier f. */
-static uint8_t beacon_telemetry_scale(uint8_t a, unsigned f)
+static beacon_telemetry_gf_t beacon_telemetry_scale(beacon_telemetry_gf_t a, beacon_telemetry_uint_t f)
 {
-    return a == 0u ? (uint8_t)0u : beacon_telemetry_exp_of((unsigned)BEACON_TELEMETRY_LOG(a) + f);
+    return a == 0u ? (beacon_telemetry_gf_t)0u : beacon_telemetry_exp_of((beacon_telemetry_uint_t)BEACON_TELEMETRY_LOG(a) + f);
+}
+
+
+/* beta^p */
+static uint8_t beacon_telemetry_beta_pow(unsigned p)
+{
+    return beacon_telemetry_exp_of(beacon_telemetry_mod_order(p * BEACON_TELEMETRY_BETA_LOG));
 }
 
 /* -- encoder ----------------------------------------------------------------------------------------- */
@@ -238,12 +244,14 @@ static void beacon_telemetry_syndromes(const uint8_t rem[BEACON_TELEMETRY_NROOTS
     }
 }
 
-/* Berlekamp-Massey started from the erasure locator already in lam (degree `erasures`, lowest degree
- * first); on return lam is the errata locator.  Returns the count of errors (beyond the erasures). */
-static unsigned beacon_telemetry_berlekamp(const uint8_t synd[BEACON_TELEMETRY_NROOTS], uint8_t lam[BEACON_TELEMETRY_NROOTS + 1u],
-                                  unsigned erasures)
+/* Berlekamp-Massey over S = synd[0 .. BEACON_TELEMETRY_NROOTS), started from the erasure locator in lam (degree `erasures`,
+ * lowest degree first, zero above); on return lam is the errata locator Lambda.  Returns the count of errors
+ * beyond the erasures, or -1 when no word within the code's reach has these syndromes: when
+ * 2 errors + erasures exceeds BEACON_TELEMETRY_NROOTS, or deg Lambda differs from errors + erasures. */
+static int beacon_telemetry_berlekamp(const beacon_telemetry_gf_t synd[BEACON_TELEMETRY_NROOTS], beacon_telemetry_gf_t lam[BEACON_TELEMETRY_NROOTS + 1u],
+                        unsigned erasures)
 {
-    uint8_t b[BEACON_TELEMETRY_NROOTS + 1u];
+    beacon_telemetry_gf_t b[BEACON_TELEMETRY_NROOTS + 1u];
     unsigned errors = 0;
     unsigned ld = erasures;            /* lam[j] == 0 for j > ld */
     unsigned bd = erasures;            /* b[j] == 0 for j > bd */
@@ -252,10 +260,10 @@ static unsigned beacon_telemetry_berlekamp(const uint8_t synd[BEACON_TELEMETRY_N
     unsigned j;
     unsigned k;                        /* loops count k up, j = top - k down: avr-gcc 5 -O3 misreads a */
                                        /* plain downward loop as out of bounds (-Warray-bounds) */
-    unsigned fd;
-    unsigned fi;
-    uint8_t delta;
-    uint8_t old;
+    beacon_telemetry_uint_t fd;
+    beacon_telemetry_uint_t fi;
+    beacon_telemetry_gf_t delta;
+    beacon_telemetry_gf_t old;
 
     for (j = 0; j <= BEACON_TELEMETRY_NROOTS; j++) {
         b[j] = lam[j];
@@ -263,7 +271,7 @@ static unsigned beacon_telemetry_berlekamp(const uint8_t synd[BEACON_TELEMETRY_N
     for (r = erasures; r < BEACON_TELEMETRY_NROOTS; r++) {
         delta = 0u;
         for (j = 0; j <= ld && j <= r; j++) {
-            delta ^= beacon_telemetry_mul(lam[j], synd[r - j]);
+            delta = (beacon_telemetry_gf_t)(delta ^ beacon_telemetry_mul(lam[j], synd[r - j]));
         }
         top = ld > bd + 1u ? ld : bd + 1u;
         if (top > BEACON_TELEMETRY_NROOTS) {
@@ -284,19 +292,22 @@ static unsigned beacon_telemetry_berlekamp(const uint8_t synd[BEACON_TELEMETRY_N
             for (k = 0; k < top; k++) {
                 j = top - k;
                 old = lam[j];
-                lam[j] = (uint8_t)(old ^ beacon_telemetry_scale(b[j - 1u], fd));
+                lam[j] = (beacon_telemetry_gf_t)(old ^ beacon_telemetry_scale(b[j - 1u], fd));
                 b[j] = beacon_telemetry_scale(old, fi);
             }
             b[0] = beacon_telemetry_scale(lam[0], fi);
             bd = ld;
             ld = top;
             errors = r + 1u - errors - erasures;
+            if (2u * errors + erasures > BEACON_TELEMETRY_NROOTS) {
+                return -1;
+            }
         } else {
             /* lam <- lam - delta x b, b <- x b */
             fd = beacon_telemetry_factor(delta);
             for (k = 0; k < top; k++) {
                 j = top - k;
-                lam[j] = (uint8_t)(lam[j] ^ beacon_telemetry_scale(b[j - 1u], fd));
+                lam[j] = (beacon_telemetry_gf_t)(lam[j] ^ beacon_telemetry_scale(b[j - 1u], fd));
                 b[j] = b[j - 1u];
             }
             b[0] = 0u;
@@ -304,7 +315,10 @@ static unsigned beacon_telemetry_berlekamp(const uint8_t synd[BEACON_TELEMETRY_N
             ld = top;
         }
     }
-    return errors;
+    while (ld > 0u && lam[ld] == 0u) {
+        ld--;
+    }
+    return ld == errors + erasures ? (int)errors : -1;
 }
 
 /* Chien search over the transmitted positions only: power p = 0 .. total-1 (p = 0 is the last parity
@@ -338,7 +352,7 @@ static unsigned beacon_telemetry_chien(const uint8_t lam[BEACON_TELEMETRY_NROOTS
             if (lam[i] != 0u) {
                 lg[nt] = BEACON_TELEMETRY_LOG(lam[i]);
                 for (k = 0; k < 4u; k++) {
-                    st[k][nt] = (uint16_t)beacon_telemetry_mod255((k + 1u) * beacon_telemetry_mod255(i * BEACON_TELEMETRY_BETA_INV_LOG));
+                    st[k][nt] = (uint16_t)beacon_telemetry_mod_order((k + 1u) * beacon_telemetry_mod_order(i * BEACON_TELEMETRY_BETA_INV_LOG));
                 }
                 nt++;
             }
@@ -413,7 +427,7 @@ static void beacon_telemetry_forney(const uint8_t synd[BEACON_TELEMETRY_NROOTS],
     }
     for (f = 0; f < deg; f++) {
         p = where[f];
-        xl = beacon_telemetry_mod255(p * BEACON_TELEMETRY_BETA_INV_LOG);
+        xl = beacon_telemetry_mod_order(p * BEACON_TELEMETRY_BETA_INV_LOG);
         acc = om[deg - 1u];
         for (j = 1; j < deg; j++) {            /* Horner from the top; counting up keeps avr-gcc 5 -O3 quiet */
             if (acc != 0u) {
@@ -424,8 +438,8 @@ static void beacon_telemetry_forney(const uint8_t synd[BEACON_TELEMETRY_NROOTS],
         if (acc == 0u) {
             value[f] = 0u;
         } else {
-            value[f] = beacon_telemetry_exp_of(beacon_telemetry_mod255((unsigned)BEACON_TELEMETRY_LOG(acc) + 2u * BEACON_TELEMETRY_ORDER
-                                                     - BEACON_TELEMETRY_LOG(odd_part[f]) - beacon_telemetry_mod255(p * BEACON_TELEMETRY_FR_LOG)));
+            value[f] = beacon_telemetry_exp_of(beacon_telemetry_mod_order((unsigned)BEACON_TELEMETRY_LOG(acc) + 2u * BEACON_TELEMETRY_ORDER
+                                                     - BEACON_TELEMETRY_LOG(odd_part[f]) - beacon_telemetry_mod_order(p * BEACON_TELEMETRY_FR_LOG)));
         }
     }
 }
@@ -443,7 +457,7 @@ static int beacon_telemetry_correct(uint8_t *data, size_t data_len, uint8_t *par
     uint8_t value[BEACON_TELEMETRY_NROOTS];
     unsigned total = (unsigned)data_len + BEACON_TELEMETRY_NROOTS;
     unsigned diff = 0;
-    unsigned errors;
+    int errors;
     unsigned deg;
     unsigned fixes = 0;
     unsigned pos;
@@ -477,13 +491,10 @@ static int beacon_telemetry_correct(uint8_t *data, size_t data_len, uint8_t *par
         }
     }
     errors = beacon_telemetry_berlekamp(synd, lam, count);
-    deg = BEACON_TELEMETRY_NROOTS;
-    while (deg > 0u && lam[deg] == 0u) {
-        deg--;
-    }
-    if (2u * errors + count > BEACON_TELEMETRY_NROOTS || deg != count + errors) {
+    if (errors < 0) {
         return BEACON_TELEMETRY_ERR_UNCORRECTABLE;
     }
+    deg = count + (unsigned)errors;
     if (beacon_telemetry_chien(lam, deg, total, where, odd_part) != deg) {
         return BEACON_TELEMETRY_ERR_UNCORRECTABLE;   /* too many errors, or one in a shortened-away symbol */
     }

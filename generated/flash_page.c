@@ -29,15 +29,19 @@
 #endif
 
 typedef uint16_t flash_page_gf_t;      /* an element of GF(2^13), polynomial basis */
+typedef uint32_t flash_page_uint_t;   /* holds a sum of two logs, and a product before its reduction */
+
+#define FLASH_PAGE_FIELD_M    13u   /* bits of a field element */
+#define FLASH_PAGE_ORDER      ((flash_page_uint_t)8191u)   /* 2^m - 1: order of alpha */
+#define FLASH_PAGE_EXP(i) FLASH_PAGE_TABLE_READ16(flash_page_exp, i)
+#define FLASH_PAGE_LOG(x) FLASH_PAGE_TABLE_READ16(flash_page_log, x)
+
 typedef uint32_t flash_page_word_t;    /* remainder words, most significant word first */
 typedef uint16_t flash_page_pos_t;     /* a bit position (degree) in the codeword, < 2^13 - 1 */
 
-#define FLASH_PAGE_ORDER      ((uint32_t)8191u)   /* 2^m - 1: order of alpha, parent code length */
 #define FLASH_PAGE_TWO_T      16u
 #define FLASH_PAGE_WORDS      4u   /* the 104-bit remainder, left-aligned in 128 bits */
 #define FLASH_PAGE_RBITS      ((uint32_t)104u)
-#define FLASH_PAGE_SLOTS      8u   /* Chien terms, padded to groups of four */
-#define FLASH_PAGE_BLOCK      64u   /* positions per Chien pass */
 #define FLASH_PAGE_LAST_PARITY 12u   /* index of the last parity byte */
 #define FLASH_PAGE_LAST_MASK  0xFFu   /* code bits of the last parity byte */
 
@@ -1074,12 +1078,11 @@ FLASH_PAGE_TABLE_ATTR static const flash_page_word_t flash_page_step[4096] = {
     0x10000000UL, 0x33000000UL, 0x56000000UL, 0x75000000UL
 };
 
-/* exp[i] = alpha^(i mod 2^m - 1) in GF(2^13) for 0 <= i < 2^m - 1 + 504 (field polynomial
- * 0x201B); the run-on past 2^m - 2 serves the Chien search. */
-#if 8695L * 16L / 8L > PTRDIFF_MAX
+/* exp[i] = alpha^i in GF(2^13) for 0 <= i < 2^m - 1 (field polynomial 0x201B). */
+#if 8191L * 16L / 8L > PTRDIFF_MAX
 #error "flash_page_exp exceeds PTRDIFF_MAX bytes, the largest array of this (16-bit) target: generate with [c] profile = \"tiny\" (16 table bytes)"
 #endif
-FLASH_PAGE_TABLE_ATTR static const flash_page_gf_t flash_page_exp[8695] = {
+FLASH_PAGE_TABLE_ATTR static const flash_page_gf_t flash_page_exp[8191] = {
     0x0001u, 0x0002u, 0x0004u, 0x0008u, 0x0010u, 0x0020u, 0x0040u, 0x0080u,
     0x0100u, 0x0200u, 0x0400u, 0x0800u, 0x1000u, 0x001Bu, 0x0036u, 0x006Cu,
     0x00D8u, 0x01B0u, 0x0360u, 0x06C0u, 0x0D80u, 0x1B00u, 0x161Bu, 0x0C2Du,
@@ -2103,70 +2106,7 @@ FLASH_PAGE_TABLE_ATTR static const flash_page_gf_t flash_page_exp[8695] = {
     0x104Au, 0x008Fu, 0x011Eu, 0x023Cu, 0x0478u, 0x08F0u, 0x11E0u, 0x03DBu,
     0x07B6u, 0x0F6Cu, 0x1ED8u, 0x1DABu, 0x1B4Du, 0x1681u, 0x0D19u, 0x1A32u,
     0x147Fu, 0x08E5u, 0x11CAu, 0x038Fu, 0x071Eu, 0x0E3Cu, 0x1C78u, 0x18EBu,
-    0x11CDu, 0x0381u, 0x0702u, 0x0E04u, 0x1C08u, 0x180Bu, 0x100Du, 0x0001u,
-    0x0002u, 0x0004u, 0x0008u, 0x0010u, 0x0020u, 0x0040u, 0x0080u, 0x0100u,
-    0x0200u, 0x0400u, 0x0800u, 0x1000u, 0x001Bu, 0x0036u, 0x006Cu, 0x00D8u,
-    0x01B0u, 0x0360u, 0x06C0u, 0x0D80u, 0x1B00u, 0x161Bu, 0x0C2Du, 0x185Au,
-    0x10AFu, 0x0145u, 0x028Au, 0x0514u, 0x0A28u, 0x1450u, 0x08BBu, 0x1176u,
-    0x02F7u, 0x05EEu, 0x0BDCu, 0x17B8u, 0x0F6Bu, 0x1ED6u, 0x1DB7u, 0x1B75u,
-    0x16F1u, 0x0DF9u, 0x1BF2u, 0x17FFu, 0x0FE5u, 0x1FCAu, 0x1F8Fu, 0x1F05u,
-    0x1E11u, 0x1C39u, 0x1869u, 0x10C9u, 0x0189u, 0x0312u, 0x0624u, 0x0C48u,
-    0x1890u, 0x113Bu, 0x026Du, 0x04DAu, 0x09B4u, 0x1368u, 0x06CBu, 0x0D96u,
-    0x1B2Cu, 0x1643u, 0x0C9Du, 0x193Au, 0x126Fu, 0x04C5u, 0x098Au, 0x1314u,
-    0x0633u, 0x0C66u, 0x18CCu, 0x1183u, 0x031Du, 0x063Au, 0x0C74u, 0x18E8u,
-    0x11CBu, 0x038Du, 0x071Au, 0x0E34u, 0x1C68u, 0x18CBu, 0x118Du, 0x0301u,
-    0x0602u, 0x0C04u, 0x1808u, 0x100Bu, 0x000Du, 0x001Au, 0x0034u, 0x0068u,
-    0x00D0u, 0x01A0u, 0x0340u, 0x0680u, 0x0D00u, 0x1A00u, 0x141Bu, 0x082Du,
-    0x105Au, 0x00AFu, 0x015Eu, 0x02BCu, 0x0578u, 0x0AF0u, 0x15E0u, 0x0BDBu,
-    0x17B6u, 0x0F77u, 0x1EEEu, 0x1DC7u, 0x1B95u, 0x1731u, 0x0E79u, 0x1CF2u,
-    0x19FFu, 0x13E5u, 0x07D1u, 0x0FA2u, 0x1F44u, 0x1E93u, 0x1D3Du, 0x1A61u,
-    0x14D9u, 0x09A9u, 0x1352u, 0x06BFu, 0x0D7Eu, 0x1AFCu, 0x15E3u, 0x0BDDu,
-    0x17BAu, 0x0F6Fu, 0x1EDEu, 0x1DA7u, 0x1B55u, 0x16B1u, 0x0D79u, 0x1AF2u,
-    0x15FFu, 0x0BE5u, 0x17CAu, 0x0F8Fu, 0x1F1Eu, 0x1E27u, 0x1C55u, 0x18B1u,
-    0x1179u, 0x02E9u, 0x05D2u, 0x0BA4u, 0x1748u, 0x0E8Bu, 0x1D16u, 0x1A37u,
-    0x1475u, 0x08F1u, 0x11E2u, 0x03DFu, 0x07BEu, 0x0F7Cu, 0x1EF8u, 0x1DEBu,
-    0x1BCDu, 0x1781u, 0x0F19u, 0x1E32u, 0x1C7Fu, 0x18E5u, 0x11D1u, 0x03B9u,
-    0x0772u, 0x0EE4u, 0x1DC8u, 0x1B8Bu, 0x170Du, 0x0E01u, 0x1C02u, 0x181Fu,
-    0x1025u, 0x0051u, 0x00A2u, 0x0144u, 0x0288u, 0x0510u, 0x0A20u, 0x1440u,
-    0x089Bu, 0x1136u, 0x0277u, 0x04EEu, 0x09DCu, 0x13B8u, 0x076Bu, 0x0ED6u,
-    0x1DACu, 0x1B43u, 0x169Du, 0x0D21u, 0x1A42u, 0x149Fu, 0x0925u, 0x124Au,
-    0x048Fu, 0x091Eu, 0x123Cu, 0x0463u, 0x08C6u, 0x118Cu, 0x0303u, 0x0606u,
-    0x0C0Cu, 0x1818u, 0x102Bu, 0x004Du, 0x009Au, 0x0134u, 0x0268u, 0x04D0u,
-    0x09A0u, 0x1340u, 0x069Bu, 0x0D36u, 0x1A6Cu, 0x14C3u, 0x099Du, 0x133Au,
-    0x066Fu, 0x0CDEu, 0x19BCu, 0x1363u, 0x06DDu, 0x0DBAu, 0x1B74u, 0x16F3u,
-    0x0DFDu, 0x1BFAu, 0x17EFu, 0x0FC5u, 0x1F8Au, 0x1F0Fu, 0x1E05u, 0x1C11u,
-    0x1839u, 0x1069u, 0x00C9u, 0x0192u, 0x0324u, 0x0648u, 0x0C90u, 0x1920u,
-    0x125Bu, 0x04ADu, 0x095Au, 0x12B4u, 0x0573u, 0x0AE6u, 0x15CCu, 0x0B83u,
-    0x1706u, 0x0E17u, 0x1C2Eu, 0x1847u, 0x1095u, 0x0131u, 0x0262u, 0x04C4u,
-    0x0988u, 0x1310u, 0x063Bu, 0x0C76u, 0x18ECu, 0x11C3u, 0x039Du, 0x073Au,
-    0x0E74u, 0x1CE8u, 0x19CBu, 0x138Du, 0x0701u, 0x0E02u, 0x1C04u, 0x1813u,
-    0x103Du, 0x0061u, 0x00C2u, 0x0184u, 0x0308u, 0x0610u, 0x0C20u, 0x1840u,
-    0x109Bu, 0x012Du, 0x025Au, 0x04B4u, 0x0968u, 0x12D0u, 0x05BBu, 0x0B76u,
-    0x16ECu, 0x0DC3u, 0x1B86u, 0x1717u, 0x0E35u, 0x1C6Au, 0x18CFu, 0x1185u,
-    0x0311u, 0x0622u, 0x0C44u, 0x1888u, 0x110Bu, 0x020Du, 0x041Au, 0x0834u,
-    0x1068u, 0x00CBu, 0x0196u, 0x032Cu, 0x0658u, 0x0CB0u, 0x1960u, 0x12DBu,
-    0x05ADu, 0x0B5Au, 0x16B4u, 0x0D73u, 0x1AE6u, 0x15D7u, 0x0BB5u, 0x176Au,
-    0x0ECFu, 0x1D9Eu, 0x1B27u, 0x1655u, 0x0CB1u, 0x1962u, 0x12DFu, 0x05A5u,
-    0x0B4Au, 0x1694u, 0x0D33u, 0x1A66u, 0x14D7u, 0x09B5u, 0x136Au, 0x06CFu,
-    0x0D9Eu, 0x1B3Cu, 0x1663u, 0x0CDDu, 0x19BAu, 0x136Fu, 0x06C5u, 0x0D8Au,
-    0x1B14u, 0x1633u, 0x0C7Du, 0x18FAu, 0x11EFu, 0x03C5u, 0x078Au, 0x0F14u,
-    0x1E28u, 0x1C4Bu, 0x188Du, 0x1101u, 0x0219u, 0x0432u, 0x0864u, 0x10C8u,
-    0x018Bu, 0x0316u, 0x062Cu, 0x0C58u, 0x18B0u, 0x117Bu, 0x02EDu, 0x05DAu,
-    0x0BB4u, 0x1768u, 0x0ECBu, 0x1D96u, 0x1B37u, 0x1675u, 0x0CF1u, 0x19E2u,
-    0x13DFu, 0x07A5u, 0x0F4Au, 0x1E94u, 0x1D33u, 0x1A7Du, 0x14E1u, 0x09D9u,
-    0x13B2u, 0x077Fu, 0x0EFEu, 0x1DFCu, 0x1BE3u, 0x17DDu, 0x0FA1u, 0x1F42u,
-    0x1E9Fu, 0x1D25u, 0x1A51u, 0x14B9u, 0x0969u, 0x12D2u, 0x05BFu, 0x0B7Eu,
-    0x16FCu, 0x0DE3u, 0x1BC6u, 0x1797u, 0x0F35u, 0x1E6Au, 0x1CCFu, 0x1985u,
-    0x1311u, 0x0639u, 0x0C72u, 0x18E4u, 0x11D3u, 0x03BDu, 0x077Au, 0x0EF4u,
-    0x1DE8u, 0x1BCBu, 0x178Du, 0x0F01u, 0x1E02u, 0x1C1Fu, 0x1825u, 0x1051u,
-    0x00B9u, 0x0172u, 0x02E4u, 0x05C8u, 0x0B90u, 0x1720u, 0x0E5Bu, 0x1CB6u,
-    0x1977u, 0x12F5u, 0x05F1u, 0x0BE2u, 0x17C4u, 0x0F93u, 0x1F26u, 0x1E57u,
-    0x1CB5u, 0x1971u, 0x12F9u, 0x05E9u, 0x0BD2u, 0x17A4u, 0x0F53u, 0x1EA6u,
-    0x1D57u, 0x1AB5u, 0x1571u, 0x0AF9u, 0x15F2u, 0x0BFFu, 0x17FEu, 0x0FE7u,
-    0x1FCEu, 0x1F87u, 0x1F15u, 0x1E31u, 0x1C79u, 0x18E9u, 0x11C9u, 0x0389u,
-    0x0712u, 0x0E24u, 0x1C48u, 0x188Bu, 0x110Du, 0x0201u, 0x0402u, 0x0804u,
-    0x1008u, 0x000Bu, 0x0016u, 0x002Cu, 0x0058u, 0x00B0u, 0x0160u, 0x02C0u,
-    0x0580u, 0x0B00u, 0x1600u, 0x0C1Bu, 0x1836u, 0x1077u, 0x00F5u
+    0x11CDu, 0x0381u, 0x0702u, 0x0E04u, 0x1C08u, 0x180Bu, 0x100Du
 };
 
 /* log[x] = i with alpha^i = x, for x = 1 .. 2^m - 1; log[0] is unused (0). */
@@ -3200,9 +3140,6 @@ FLASH_PAGE_TABLE_ATTR static const flash_page_gf_t flash_page_log[8192] = {
     0x1498u, 0x1C5Du, 0x0DDBu, 0x1E44u, 0x14D1u, 0x151Cu, 0x0DF6u, 0x1CB7u
 };
 
-#define FLASH_PAGE_EXP(i) FLASH_PAGE_TABLE_READ16(flash_page_exp, i)
-#define FLASH_PAGE_LOG(x) FLASH_PAGE_TABLE_READ16(flash_page_log, x)
-
 /* Rows of the linear map y -> y^2 + y of GF(2^13) in reduced echelon form (pivot bit, image, a preimage),
  * from Gaussian elimination in the bitmend model: a degree-2 locator is solved directly. */
 #define FLASH_PAGE_QUAD_ROWS 12u
@@ -3312,43 +3249,38 @@ static int flash_page_fold(flash_page_word_t reg[FLASH_PAGE_WORDS], const uint8_
 
 /* -- GF(2^13) arithmetic ------------------------------------------------------------------------------ */
 
-/* x mod 2^m - 1 without a division: 2^m = 1 there, so the high bits fold onto the low ones. */
-static uint32_t flash_page_mod_order(uint32_t x)
+/* alpha^i for 0 <= i < 2 (2^m - 1): a sum of two logs. */
+static flash_page_gf_t flash_page_exp_of(flash_page_uint_t i)
 {
-    while ((x >> FLASH_PAGE_M) != 0u) {
-        x = (x & FLASH_PAGE_ORDER) + (x >> FLASH_PAGE_M);
-    }
-    return x >= FLASH_PAGE_ORDER ? x - FLASH_PAGE_ORDER : x;
+    return FLASH_PAGE_EXP(i >= FLASH_PAGE_ORDER ? i - FLASH_PAGE_ORDER : i);
 }
 
 static flash_page_gf_t flash_page_mul(flash_page_gf_t a, flash_page_gf_t b)
 {
-    uint32_t e;
-
     if (a == 0u || b == 0u) {
         return 0;
     }
-    e = (uint32_t)FLASH_PAGE_LOG(a) + FLASH_PAGE_LOG(b);
-    if (e >= FLASH_PAGE_ORDER) {
-        e -= FLASH_PAGE_ORDER;
-    }
-    return FLASH_PAGE_EXP(e);
+    return flash_page_exp_of((flash_page_uint_t)FLASH_PAGE_LOG(a) + FLASH_PAGE_LOG(b));
 }
 
-/* a / b for b != 0. */
-static flash_page_gf_t flash_page_div(flash_page_gf_t a, flash_page_gf_t b)
+/* x as a prepared multiplier: its log, x != 0. */
+static flash_page_uint_t flash_page_factor(flash_page_gf_t x)
 {
-    uint32_t e;
-
-    if (a == 0u) {
-        return 0;
-    }
-    e = (uint32_t)FLASH_PAGE_LOG(a) + FLASH_PAGE_ORDER - FLASH_PAGE_LOG(b);
-    if (e >= FLASH_PAGE_ORDER) {
-        e -= FLASH_PAGE_ORDER;
-    }
-    return FLASH_PAGE_EXP(e);
+    return FLASH_PAGE_LOG(x);
 }
+
+/* 1 / x as a prepared multiplier (a log, 1 .. 2^m - 1), x != 0. */
+static flash_page_uint_t flash_page_inv_factor(flash_page_gf_t x)
+{
+    return FLASH_PAGE_ORDER - FLASH_PAGE_LOG(x);
+}
+
+/* a times a prepared multiplier f. */
+static flash_page_gf_t flash_page_scale(flash_page_gf_t a, flash_page_uint_t f)
+{
+    return a == 0u ? (flash_page_gf_t)0u : flash_page_exp_of((flash_page_uint_t)FLASH_PAGE_LOG(a) + f);
+}
+
 
 /* -- decoding ----------------------------------------------------------------------------------------- */
 
@@ -3387,123 +3319,308 @@ static void flash_page_syndromes(const flash_page_word_t reg[FLASH_PAGE_WORDS], 
     }
 }
 
-/* Berlekamp-Massey (Massey's shortest LFSR) over S_1 .. S_2t.  c[] receives the connection polynomial
- * C(x) = 1 + c1 x + ... ; returns its length L, or -1 when L > t or deg C != L (no error pattern of
- * weight <= t has these syndromes). */
-static int flash_page_locator(const flash_page_gf_t synd[FLASH_PAGE_TWO_T], flash_page_gf_t c[FLASH_PAGE_T + 1u])
+/* Berlekamp-Massey over S = synd[0 .. FLASH_PAGE_TWO_T), started from the erasure locator in lam (degree `erasures`,
+ * lowest degree first, zero above); on return lam is the errata locator Lambda.  Returns the count of errors
+ * beyond the erasures, or -1 when no word within the code's reach has these syndromes: when
+ * 2 errors + erasures exceeds FLASH_PAGE_TWO_T, or deg Lambda differs from errors + erasures. */
+static int flash_page_berlekamp(const flash_page_gf_t synd[FLASH_PAGE_TWO_T], flash_page_gf_t lam[FLASH_PAGE_TWO_T + 1u],
+                        unsigned erasures)
 {
-    flash_page_gf_t prev[FLASH_PAGE_T + 1u];
-    flash_page_gf_t copy[FLASH_PAGE_T + 1u];
-    flash_page_gf_t d;
-    flash_page_gf_t coef;
-    flash_page_gf_t prev_d = 1;
-    unsigned length = 0;
-    unsigned shift = 1;
-    unsigned new_length;
-    unsigned step;
-    unsigned i;
+    flash_page_gf_t b[FLASH_PAGE_TWO_T + 1u];
+    unsigned errors = 0;
+    unsigned ld = erasures;            /* lam[j] == 0 for j > ld */
+    unsigned bd = erasures;            /* b[j] == 0 for j > bd */
+    unsigned top;
+    unsigned r;
+    unsigned j;
+    unsigned k;                        /* loops count k up, j = top - k down: avr-gcc 5 -O3 misreads a */
+                                       /* plain downward loop as out of bounds (-Warray-bounds) */
+    flash_page_uint_t fd;
+    flash_page_uint_t fi;
+    flash_page_gf_t delta;
+    flash_page_gf_t old;
 
-    for (i = 0; i <= FLASH_PAGE_T; i++) {
-        c[i] = 0;
-        prev[i] = 0;
+    for (j = 0; j <= FLASH_PAGE_TWO_T; j++) {
+        b[j] = lam[j];
     }
-    c[0] = 1;
-    prev[0] = 1;
-    for (step = 0; step < FLASH_PAGE_TWO_T; step++) {
-        d = synd[step];
-        for (i = 1; i <= length; i++) {
-            d = (flash_page_gf_t)(d ^ flash_page_mul(c[i], synd[step - i]));
+    for (r = erasures; r < FLASH_PAGE_TWO_T; r++) {
+        delta = 0u;
+        /* r odd: S_(r+1) has an even index and the discrepancy is 0, so the sum is skipped */
+        for (j = 0; j <= ld && j <= r && (r & 1u) == 0u; j++) {
+            delta = (flash_page_gf_t)(delta ^ flash_page_mul(lam[j], synd[r - j]));
         }
-        if (d == 0u) {
-            shift++;
-            continue;
+        top = ld > bd + 1u ? ld : bd + 1u;
+        if (top > FLASH_PAGE_TWO_T) {
+            top = FLASH_PAGE_TWO_T;
         }
-        coef = flash_page_div(d, prev_d);
-        if (2u * length <= step) {
-            new_length = step + 1u - length;
-            if (new_length > FLASH_PAGE_T) {
+        if (delta == 0u) {
+            /* b <- x b */
+            for (k = 0; k < top; k++) {
+                j = top - k;
+                b[j] = b[j - 1u];
+            }
+            b[0] = 0u;
+            bd = top;
+        } else if (2u * errors <= r - erasures) {
+            /* lam <- lam - delta x b and b <- lam / delta, from the old lam; the register grows */
+            fd = flash_page_factor(delta);
+            fi = flash_page_inv_factor(delta);
+            for (k = 0; k < top; k++) {
+                j = top - k;
+                old = lam[j];
+                lam[j] = (flash_page_gf_t)(old ^ flash_page_scale(b[j - 1u], fd));
+                b[j] = flash_page_scale(old, fi);
+            }
+            b[0] = flash_page_scale(lam[0], fi);
+            bd = ld;
+            ld = top;
+            errors = r + 1u - errors - erasures;
+            if (2u * errors + erasures > FLASH_PAGE_TWO_T) {
                 return -1;
             }
-            for (i = 0; i <= FLASH_PAGE_T; i++) {
-                copy[i] = c[i];
-            }
-            for (i = shift; i <= FLASH_PAGE_T; i++) {
-                c[i] = (flash_page_gf_t)(c[i] ^ flash_page_mul(coef, prev[i - shift]));
-            }
-            for (i = 0; i <= FLASH_PAGE_T; i++) {
-                prev[i] = copy[i];
-            }
-            prev_d = d;
-            length = new_length;
-            shift = 1;
         } else {
-            for (i = shift; i <= FLASH_PAGE_T; i++) {
-                c[i] = (flash_page_gf_t)(c[i] ^ flash_page_mul(coef, prev[i - shift]));
+            /* lam <- lam - delta x b, b <- x b */
+            fd = flash_page_factor(delta);
+            for (k = 0; k < top; k++) {
+                j = top - k;
+                lam[j] = (flash_page_gf_t)(lam[j] ^ flash_page_scale(b[j - 1u], fd));
+                b[j] = b[j - 1u];
             }
-            shift++;
+            b[0] = 0u;
+            bd = top;
+            ld = top;
         }
     }
-    if (c[length] == 0u) {
-        return -1;
+    while (ld > 0u && lam[ld] == 0u) {
+        ld--;
     }
-    for (i = length + 1u; i <= FLASH_PAGE_T; i++) {
-        if (c[i] != 0u) {
-            return -1;
-        }
-    }
-    return (int)length;
+    return ld == errors + erasures ? (int)errors : -1;
 }
 
-/* Chien search over the transmitted positions 0 .. nbits-1 only: stores each p with C(alpha^-p) = 0
- * in where[] and returns how many were found (at most `length` = deg C).  Positions are visited
- * from the top down, 64 per pass; each root found is divided out of the polynomial. */
-static unsigned flash_page_roots(const flash_page_gf_t c[FLASH_PAGE_T + 1u], unsigned length, uint32_t nbits,
-                          flash_page_pos_t where[FLASH_PAGE_T])
+/* u <- u mod v, v's top coefficient non-zero; lengths count coefficients (0: the zero polynomial), lowest
+ * degree first.  With quo, the quotient's coefficients go there (quo[0 .. lu - lv]).  Returns u's new length. */
+static unsigned flash_page_divide(flash_page_gf_t u[FLASH_PAGE_T + 1u], unsigned lu, const flash_page_gf_t v[FLASH_PAGE_T + 1u],
+                                unsigned lv, flash_page_gf_t *quo)
 {
-    flash_page_gf_t q[FLASH_PAGE_T + 1u];      /* C(x) with the roots found so far divided out */
-    uint32_t expo[FLASH_PAGE_SLOTS];   /* per non-zero q_i: log(q_i) - i p mod 2^m - 1 at the pass's first p */
-    uint32_t power[FLASH_PAGE_SLOTS];  /* i: the growth of that exponent as p steps down */
-    flash_page_gf_t acc[FLASH_PAGE_BLOCK];   /* q(alpha^-p) for the positions of one pass */
-    flash_page_gf_t start = 1;
-    flash_page_gf_t c2;
-    flash_page_gf_t y;
-    uint32_t e0, e1, e2, e3;
-    uint32_t next = nbits;                  /* positions next - 1 down to 0 are still to search */
-    uint32_t top;
-    uint32_t u;
-    uint32_t blen;
-    uint32_t e;
-    uint32_t lg;
-    unsigned degree = length;
-    unsigned terms = 0;
-    unsigned slots = 0;
-    unsigned found = 0;
-    unsigned setup = 1;
-    unsigned i;
+    flash_page_uint_t fi = flash_page_inv_factor(v[lv - 1u]);
+    flash_page_uint_t fq;
+    flash_page_gf_t q;
+    unsigned e;
+    unsigned j;
     unsigned k;
 
-    for (i = 0; i <= length; i++) {
-        q[i] = c[i];
-    }
-    while (degree > 0u && next > 0u) {
-        top = next - 1u;
-        if (degree == 1u) {
-            /* q(x) = 1 + q1 x has its root at alpha^-p with alpha^p = q1: found if p is still to search */
-            e = FLASH_PAGE_LOG(q[1]);
-            if (e <= top) {
-                where[found] = (flash_page_pos_t)e;
-                found++;
-            }
-            break;
+    for (k = 0; k + lv <= lu; k++) {
+        e = lu - 1u - k;                       /* the top coefficient, degree e down to lv - 1 */
+        q = flash_page_scale(u[e], fi);
+        if (quo != NULL) {
+            quo[e + 1u - lv] = q;
         }
-        if (degree == 2u) {
-            /* q(x) = 1 + q1 x + q2 x^2 vanishes at X^-1 where X^2 + q1 X + q2 = 0; X = q1 y turns that into
-             * y^2 + y = c = q2 / q1^2, solved by reducing c with the rows of the linear map y^2 + y.  No
-             * solution, or q1 = 0 (a double root), leaves the roots unfound: the word is not decodable. */
-            if (q[1] == 0u) {
-                break;
+        if (q != 0u) {
+            fq = flash_page_factor(q);
+            for (j = 0; j < lv; j++) {
+                u[e + 1u - lv + j] = (flash_page_gf_t)(u[e + 1u - lv + j] ^ flash_page_scale(v[j], fq));
             }
-            c2 = flash_page_div(q[2], flash_page_mul(q[1], q[1]));
+        }
+    }
+    if (lu >= lv) {
+        lu = lv - 1u;
+    }
+    while (lu > 0u && u[lu - 1u] == 0u) {
+        lu--;
+    }
+    return lu;
+}
+
+/* a <- a^2 mod sigma for a of degree < len, where sigma = z^len + the sum of s_j z^j and slog[j] = log s_j
+ * (FLASH_PAGE_ORDER for s_j = 0): the square's coefficients are the squares of a's, and each term z^d with
+ * d >= len folds down through z^len = the sum of s_j z^j. */
+static void flash_page_square_mod(flash_page_gf_t a[FLASH_PAGE_T + 1u], const flash_page_gf_t slog[FLASH_PAGE_T], unsigned len)
+{
+    flash_page_gf_t sq[2u * FLASH_PAGE_T - 1u];
+    flash_page_uint_t lh;
+    unsigned d;
+    unsigned j;
+    unsigned k;
+
+    for (j = 0; j < len; j++) {
+        sq[2u * j] = a[j] == 0u ? (flash_page_gf_t)0u : flash_page_exp_of(2u * (flash_page_uint_t)FLASH_PAGE_LOG(a[j]));
+        if (j + 1u < len) {
+            sq[2u * j + 1u] = 0u;
+        }
+    }
+    for (k = 0; k + 1u < len; k++) {           /* d = 2 len - 2 down to len */
+        d = 2u * len - 2u - k;
+        if (sq[d] != 0u) {
+            lh = FLASH_PAGE_LOG(sq[d]);
+            for (j = 0; j < len; j++) {
+                if (slog[j] != FLASH_PAGE_ORDER) {
+                    sq[d - len + j] = (flash_page_gf_t)(sq[d - len + j] ^ flash_page_exp_of(lh + slog[j]));
+                }
+            }
+        }
+    }
+    for (j = 0; j < len; j++) {
+        a[j] = sq[j];
+    }
+}
+
+/* The error positions: the roots X = alpha^p of sigma(z) = z^L C(1/z) (L = `length`), stored as p in where[]
+ * while each lies among the transmitted positions 0 .. nbits-1.  Returns how many were stored: L exactly when
+ * sigma has L distinct roots, all transmitted.  sigma splits into distinct linear factors exactly
+ * when z^(2^m) = z mod sigma; it is then factored by the traces Tr(beta z) = sum of (beta z)^(2^i), i < m,
+ * which are 0 or 1 at every root (the Berlekamp trace algorithm): gcd(factor, Tr(beta z) mod sigma) splits
+ * a factor, beta = alpha^0, alpha^1, ... in turn, until every factor has degree 1 or 2.  A factor z + X
+ * gives X; a quadratic z^2 + s1 z + s0 is solved directly: X = s1 y with y^2 + y = s0 / s1^2, which the rows
+ * of the linear map y^2 + y reduce (no solution, or s1 = 0 for a double root: not decodable). */
+static unsigned flash_page_roots(const flash_page_gf_t c[FLASH_PAGE_TWO_T + 1u], unsigned length, uint32_t nbits,
+                          flash_page_pos_t where[FLASH_PAGE_T])
+{
+    flash_page_gf_t fac[FLASH_PAGE_T];        /* the factors of sigma, monic, each as its low coefficients */
+    flash_page_pos_t off[FLASH_PAGE_T];       /* factor f: fac[off[f] .. off[f] + deg[f]) */
+    flash_page_pos_t deg[FLASH_PAGE_T];
+    flash_page_gf_t slog[FLASH_PAGE_T];       /* logs of sigma's low coefficients, FLASH_PAGE_ORDER for 0 */
+    flash_page_gf_t zlog[FLASH_PAGE_FIELD_M - 1u][FLASH_PAGE_T];   /* logs of z^(2^i) mod sigma, i = 1 .. m - 1 */
+    flash_page_gf_t tr[FLASH_PAGE_T];         /* Tr(beta z) mod sigma */
+    flash_page_gf_t u[FLASH_PAGE_T + 1u];
+    flash_page_gf_t v[FLASH_PAGE_T + 1u];
+    flash_page_gf_t quo[FLASH_PAGE_T + 1u];
+    flash_page_gf_t *g;
+    flash_page_gf_t *h;
+    flash_page_uint_t fi;
+    flash_page_uint_t lb;
+    unsigned big = length > 2u;             /* factors of degree 3 or more */
+    unsigned count;
+    unsigned lg;
+    unsigned lh;
+    unsigned lt;
+    unsigned d;
+    unsigned o;
+    unsigned b;
+    flash_page_gf_t x[2] = {0, 0};          /* the roots of one factor */
+    flash_page_gf_t s1;
+    flash_page_gf_t c2;
+    flash_page_gf_t y;
+    unsigned nfac = 1;
+    unsigned found = 0;
+    unsigned f;
+    unsigned i;
+    unsigned j;
+    unsigned e;
+
+    for (j = 0; j < length; j++) {
+        fac[j] = c[length - j];
+    }
+    off[0] = 0;
+    deg[0] = (flash_page_pos_t)length;
+    for (j = 0; j < FLASH_PAGE_T; j++) {
+        tr[j] = 0;                          /* only the first `length` are used; all set for the compiler */
+        u[j] = 0;
+        v[j] = 0;
+        quo[j] = 0;
+    }
+    u[FLASH_PAGE_T] = 0;
+    v[FLASH_PAGE_T] = 0;
+    quo[FLASH_PAGE_T] = 0;
+    if (big) {
+        for (j = 0; j < length; j++) {
+            slog[j] = fac[j] == 0u ? (flash_page_gf_t)FLASH_PAGE_ORDER : (flash_page_gf_t)FLASH_PAGE_LOG(fac[j]);
+            u[j] = 0;
+        }
+        u[1] = 1;                           /* z */
+        for (i = 1; i <= FLASH_PAGE_FIELD_M; i++) {
+            flash_page_square_mod(u, slog, length);
+            for (j = 0; j < length && i < FLASH_PAGE_FIELD_M; j++) {
+                zlog[i - 1u][j] = u[j] == 0u ? (flash_page_gf_t)FLASH_PAGE_ORDER : (flash_page_gf_t)FLASH_PAGE_LOG(u[j]);
+            }
+        }
+        for (j = 0; j < length; j++) {
+            if (u[j] != (j == 1u ? 1u : 0u)) {
+                return 0;                   /* z^(2^m) != z: not L distinct roots */
+            }
+        }
+    }
+    for (b = 0; b < FLASH_PAGE_FIELD_M && big > 0u; b++) {
+        /* Tr(beta z) = sum over i < m of beta^(2^i) z^(2^i), beta = alpha^b */
+        for (j = 0; j < length; j++) {
+            tr[j] = 0;
+        }
+        tr[1] = FLASH_PAGE_EXP(b);
+        lb = b;
+        for (i = 1; i < FLASH_PAGE_FIELD_M; i++) {
+            lb = lb + lb >= FLASH_PAGE_ORDER ? lb + lb - FLASH_PAGE_ORDER : lb + lb;     /* log of beta^(2^i) */
+            for (j = 0; j < length; j++) {
+                if (zlog[i - 1u][j] != FLASH_PAGE_ORDER) {
+                    tr[j] = (flash_page_gf_t)(tr[j] ^ flash_page_exp_of(lb + zlog[i - 1u][j]));
+                }
+            }
+        }
+        count = nfac;
+        for (f = 0; f < count; f++) {
+            d = deg[f];
+            o = off[f];
+            if (d < 3u) {
+                continue;
+            }
+            /* g = gcd(factor, tr mod factor) by Euclid's algorithm, in u and v */
+            for (j = 0; j < d; j++) {
+                u[j] = fac[o + j];
+            }
+            u[d] = 1;
+            for (j = 0; j < length; j++) {
+                v[j] = tr[j];
+            }
+            g = u;
+            h = v;
+            lg = d + 1u;
+            lh = flash_page_divide(v, length, u, d + 1u, NULL);
+            while (lh > 0u) {
+                lt = flash_page_divide(g, lg, h, lh, NULL);
+                lg = lh;
+                lh = lt;
+                if (g == u) {
+                    g = v;
+                    h = u;
+                } else {
+                    g = u;
+                    h = v;
+                }
+            }
+            if (lg < 2u || lg > d) {
+                continue;                   /* gcd 1 or the factor itself: beta does not split it */
+            }
+            fi = flash_page_inv_factor(g[lg - 1u]);
+            for (j = 0; j < lg; j++) {
+                g[j] = flash_page_scale(g[j], fi);
+            }
+            /* the factor = g * quo: both replace it, side by side */
+            for (j = 0; j < d; j++) {
+                h[j] = fac[o + j];
+            }
+            h[d] = 1;
+            (void)flash_page_divide(h, d + 1u, g, lg, quo);
+            for (j = 0; j + 1u < lg; j++) {
+                fac[o + j] = g[j];
+            }
+            for (j = 0; j + lg <= d; j++) {
+                fac[o + lg - 1u + j] = quo[j];
+            }
+            deg[f] = (flash_page_pos_t)(lg - 1u);
+            off[nfac] = (flash_page_pos_t)(o + lg - 1u);
+            deg[nfac] = (flash_page_pos_t)(d + 1u - lg);
+            nfac++;
+            big = big - 1u + (lg - 1u > 2u) + (d + 1u - lg > 2u);
+        }
+    }
+    for (f = 0; f < nfac; f++) {
+        if (deg[f] == 1u) {
+            x[0] = fac[off[f]];
+            j = 1;
+        } else if (deg[f] == 2u) {
+            s1 = fac[off[f] + 1u];
+            if (s1 == 0u) {
+                return found;
+            }
+            c2 = flash_page_scale(fac[off[f]], flash_page_inv_factor(flash_page_mul(s1, s1)));
             y = 0;
             for (i = 0; i < FLASH_PAGE_QUAD_ROWS; i++) {
                 if ((c2 & FLASH_PAGE_TABLE_READ16(flash_page_quad_bit, i)) != 0u) {
@@ -3512,81 +3629,24 @@ static unsigned flash_page_roots(const flash_page_gf_t c[FLASH_PAGE_T + 1u], uns
                 }
             }
             if (c2 != 0u) {
-                break;
+                return found;
             }
-            y = flash_page_mul(q[1], y);                      /* X and X + q1, both non-zero */
-            e = FLASH_PAGE_LOG(y);
-            if (e <= top) {
-                where[found] = (flash_page_pos_t)e;
-                found++;
-            }
-            e = FLASH_PAGE_LOG(y ^ q[1]);
-            if (e <= top) {
-                where[found] = (flash_page_pos_t)e;
-                found++;
-            }
-            break;
+            x[0] = flash_page_mul(s1, y);
+            x[1] = (flash_page_gf_t)(x[0] ^ s1);
+            j = 2;
+        } else {
+            return found;
         }
-        if (setup) {
-            /* terms of q at position top; padded to groups of four with terms that stay at exp[0] = 1
-             * (an odd number of pads cancels the constant term 1) */
-            terms = 0;
-            for (i = 1; i <= degree; i++) {
-                if (q[i] != 0u) {
-                    e = flash_page_mod_order((uint32_t)i * top);
-                    lg = FLASH_PAGE_LOG(q[i]);
-                    expo[terms] = lg >= e ? lg - e : lg + FLASH_PAGE_ORDER - e;
-                    power[terms] = i;
-                    terms++;
-                }
+        for (i = 0; i < j; i++) {
+            if (x[i] == 0u) {
+                return found;
             }
-            slots = (terms + 3u) & ~3u;
-            start = (flash_page_gf_t)(((slots - terms) & 1u) != 0u ? 0u : 1u);
-            for (k = terms; k < slots; k++) {
-                expo[k] = 0;
-                power[k] = 0;
+            e = FLASH_PAGE_LOG(x[i]);
+            if (e >= nbits) {
+                return found;               /* a shortened-away position */
             }
-            setup = 0;
-        }
-        /* positions p = top - u, u < blen; term i contributes exp[expo + i * u], inside the table's
-         * run-on of 504 entries, so no index wraps within a pass */
-        blen = next < FLASH_PAGE_BLOCK ? next : FLASH_PAGE_BLOCK;
-        for (u = 0; u < blen; u++) {
-            acc[u] = start;
-        }
-        for (k = 0; k < slots; k += 4u) {
-            e0 = expo[k];
-            e1 = expo[k + 1u];
-            e2 = expo[k + 2u];
-            e3 = expo[k + 3u];
-            for (u = 0; u < blen; u++) {
-                acc[u] = (flash_page_gf_t)(acc[u] ^ FLASH_PAGE_EXP(e0) ^ FLASH_PAGE_EXP(e1) ^ FLASH_PAGE_EXP(e2)
-                                         ^ FLASH_PAGE_EXP(e3));
-                e0 += power[k];
-                e1 += power[k + 1u];
-                e2 += power[k + 2u];
-                e3 += power[k + 3u];
-            }
-            /* each grew by i * blen <= 2^m - 1: one subtraction brings it back below 2^m - 1 */
-            expo[k] = e0 >= FLASH_PAGE_ORDER ? e0 - FLASH_PAGE_ORDER : e0;
-            expo[k + 1u] = e1 >= FLASH_PAGE_ORDER ? e1 - FLASH_PAGE_ORDER : e1;
-            expo[k + 2u] = e2 >= FLASH_PAGE_ORDER ? e2 - FLASH_PAGE_ORDER : e2;
-            expo[k + 3u] = e3 >= FLASH_PAGE_ORDER ? e3 - FLASH_PAGE_ORDER : e3;
-        }
-        next -= blen;
-        for (u = 0; u < blen; u++) {
-            if (acc[u] == 0u && degree > 0u) {
-                /* a root at p: record it and divide q by (1 + alpha^p x), so later passes need fewer terms */
-                e = top - u;
-                where[found] = (flash_page_pos_t)e;
-                found++;
-                for (i = 1; i < degree; i++) {
-                    q[i] = (flash_page_gf_t)(q[i] ^ flash_page_mul(FLASH_PAGE_EXP(e), q[i - 1u]));
-                }
-                q[degree] = 0;
-                degree--;
-                setup = 1;
-            }
+            where[found] = (flash_page_pos_t)e;
+            found++;
         }
     }
     return found;
@@ -3621,7 +3681,7 @@ int flash_page_decode(uint8_t *data, size_t data_len, uint8_t *parity)
 {
     flash_page_word_t reg[FLASH_PAGE_WORDS];
     flash_page_gf_t synd[FLASH_PAGE_TWO_T];
-    flash_page_gf_t c[FLASH_PAGE_T + 1u];
+    flash_page_gf_t c[FLASH_PAGE_TWO_T + 1u];   /* the locator C(x), lowest degree first */
     flash_page_pos_t where[FLASH_PAGE_T];
     uint32_t nbits;
     uint32_t q;
@@ -3640,7 +3700,11 @@ int flash_page_decode(uint8_t *data, size_t data_len, uint8_t *parity)
         return 0;                              /* a codeword: every syndrome is zero */
     }
     flash_page_syndromes(reg, synd);
-    length = flash_page_locator(synd, c);
+    c[0] = 1;
+    for (i = 1; i <= FLASH_PAGE_TWO_T; i++) {
+        c[i] = 0;
+    }
+    length = flash_page_berlekamp(synd, c, 0u);
     if (length < 0) {
         return FLASH_PAGE_ERR_UNCORRECTABLE;
     }

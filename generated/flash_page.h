@@ -33,8 +33,8 @@ extern "C" {
  * shortened-away position) returns FLASH_PAGE_ERR_UNCORRECTABLE with both buffers unchanged.
  *
  * Profile fast: encoder by a 256-entry remainder table, GF(2^13) arithmetic by exp/log tables.
- * Constant tables: 50230 bytes (profiles: fast 50230, small 34102, tiny 16).
- * Stack: at most 808 bytes (328 of them local arrays).
+ * Constant tables: 49222 bytes (profiles: fast 49222, small 33094, tiny 16).
+ * Stack: at most 1080 bytes (504 of them local arrays).
  */
 #define FLASH_PAGE_N                 4200u        /* codeword length of the largest block, bits */
 #define FLASH_PAGE_K                 4096u        /* data length of the largest block, bits */
@@ -42,8 +42,8 @@ extern "C" {
 #define FLASH_PAGE_DATA_BYTES        512u         /* largest data block, bytes */
 #define FLASH_PAGE_PARITY_BYTES      13u          /* check bytes for the largest block */
 #define FLASH_PAGE_CORRECTABLE       8            /* = _T, as an int like _decode's return */
-#define FLASH_PAGE_TABLE_BYTES       50230u       /* constant table bytes in the .c */
-#define FLASH_PAGE_STACK_BYTES       808u         /* worst-case stack bound, bytes */
+#define FLASH_PAGE_TABLE_BYTES       49222u       /* constant table bytes in the .c */
+#define FLASH_PAGE_STACK_BYTES       1080u        /* worst-case stack bound, bytes */
 #define FLASH_PAGE_ERR_UNCORRECTABLE (-1)         /* errors found that the code cannot correct */
 #define FLASH_PAGE_ERR_LENGTH        (-2)         /* a data_len the code does not take */
 #define FLASH_PAGE_ERR_ARG           (-3)         /* a NULL buffer or an invalid argument */

@@ -29,15 +29,19 @@
 #endif
 
 typedef uint8_t meter_reading_gf_t;      /* an element of GF(2^8), polynomial basis */
+typedef unsigned meter_reading_uint_t;   /* holds a sum of two logs, and a product before its reduction */
+
+#define METER_READING_FIELD_M    8u   /* bits of a field element */
+#define METER_READING_ORDER      ((meter_reading_uint_t)255u)   /* 2^m - 1: order of alpha */
+#define METER_READING_EXP(i) METER_READING_TABLE_READ8(meter_reading_exp, i)
+#define METER_READING_LOG(x) METER_READING_TABLE_READ8(meter_reading_log, x)
+
 typedef uint32_t meter_reading_word_t;    /* remainder words, most significant word first */
 typedef uint16_t meter_reading_pos_t;     /* a bit position (degree) in the codeword, < 2^8 - 1 */
 
-#define METER_READING_ORDER      ((uint32_t)255u)   /* 2^m - 1: order of alpha, parent code length */
 #define METER_READING_TWO_T      6u
 #define METER_READING_WORDS      1u   /* the 24-bit remainder, left-aligned in 32 bits */
 #define METER_READING_RBITS      ((uint32_t)24u)
-#define METER_READING_SLOTS      4u   /* Chien terms, padded to groups of four */
-#define METER_READING_BLOCK      64u   /* positions per Chien pass */
 #define METER_READING_LAST_PARITY 2u   /* index of the last parity byte */
 #define METER_READING_LAST_MASK  0xFFu   /* code bits of the last parity byte */
 
@@ -50,9 +54,8 @@ METER_READING_TABLE_ATTR static const meter_reading_word_t meter_reading_rem_tab
     0xC0991600UL, 0xBBED2300UL, 0x36717C00UL, 0x4D054900UL
 };
 
-/* exp[i] = alpha^(i mod 2^m - 1) in GF(2^8) for 0 <= i < 2^m - 1 + 189 (field polynomial
- * 0x12B); the run-on past 2^m - 2 serves the Chien search. */
-METER_READING_TABLE_ATTR static const meter_reading_gf_t meter_reading_exp[444] = {
+/* exp[i] = alpha^i in GF(2^8) for 0 <= i < 2^m - 1 (field polynomial 0x12B). */
+METER_READING_TABLE_ATTR static const meter_reading_gf_t meter_reading_exp[255] = {
     0x01u, 0x02u, 0x04u, 0x08u, 0x10u, 0x20u, 0x40u, 0x80u,
     0x2Bu, 0x56u, 0xACu, 0x73u, 0xE6u, 0xE7u, 0xE5u, 0xE1u,
     0xE9u, 0xF9u, 0xD9u, 0x99u, 0x19u, 0x32u, 0x64u, 0xC8u,
@@ -84,31 +87,7 @@ METER_READING_TABLE_ATTR static const meter_reading_gf_t meter_reading_exp[444] 
     0xCBu, 0xBDu, 0x51u, 0xA2u, 0x6Fu, 0xDEu, 0x97u, 0x05u,
     0x0Au, 0x14u, 0x28u, 0x50u, 0xA0u, 0x6Bu, 0xD6u, 0x87u,
     0x25u, 0x4Au, 0x94u, 0x03u, 0x06u, 0x0Cu, 0x18u, 0x30u,
-    0x60u, 0xC0u, 0xABu, 0x7Du, 0xFAu, 0xDFu, 0x95u, 0x01u,
-    0x02u, 0x04u, 0x08u, 0x10u, 0x20u, 0x40u, 0x80u, 0x2Bu,
-    0x56u, 0xACu, 0x73u, 0xE6u, 0xE7u, 0xE5u, 0xE1u, 0xE9u,
-    0xF9u, 0xD9u, 0x99u, 0x19u, 0x32u, 0x64u, 0xC8u, 0xBBu,
-    0x5Du, 0xBAu, 0x5Fu, 0xBEu, 0x57u, 0xAEu, 0x77u, 0xEEu,
-    0xF7u, 0xC5u, 0xA1u, 0x69u, 0xD2u, 0x8Fu, 0x35u, 0x6Au,
-    0xD4u, 0x83u, 0x2Du, 0x5Au, 0xB4u, 0x43u, 0x86u, 0x27u,
-    0x4Eu, 0x9Cu, 0x13u, 0x26u, 0x4Cu, 0x98u, 0x1Bu, 0x36u,
-    0x6Cu, 0xD8u, 0x9Bu, 0x1Du, 0x3Au, 0x74u, 0xE8u, 0xFBu,
-    0xDDu, 0x91u, 0x09u, 0x12u, 0x24u, 0x48u, 0x90u, 0x0Bu,
-    0x16u, 0x2Cu, 0x58u, 0xB0u, 0x4Bu, 0x96u, 0x07u, 0x0Eu,
-    0x1Cu, 0x38u, 0x70u, 0xE0u, 0xEBu, 0xFDu, 0xD1u, 0x89u,
-    0x39u, 0x72u, 0xE4u, 0xE3u, 0xEDu, 0xF1u, 0xC9u, 0xB9u,
-    0x59u, 0xB2u, 0x4Fu, 0x9Eu, 0x17u, 0x2Eu, 0x5Cu, 0xB8u,
-    0x5Bu, 0xB6u, 0x47u, 0x8Eu, 0x37u, 0x6Eu, 0xDCu, 0x93u,
-    0x0Du, 0x1Au, 0x34u, 0x68u, 0xD0u, 0x8Bu, 0x3Du, 0x7Au,
-    0xF4u, 0xC3u, 0xADu, 0x71u, 0xE2u, 0xEFu, 0xF5u, 0xC1u,
-    0xA9u, 0x79u, 0xF2u, 0xCFu, 0xB5u, 0x41u, 0x82u, 0x2Fu,
-    0x5Eu, 0xBCu, 0x53u, 0xA6u, 0x67u, 0xCEu, 0xB7u, 0x45u,
-    0x8Au, 0x3Fu, 0x7Eu, 0xFCu, 0xD3u, 0x8Du, 0x31u, 0x62u,
-    0xC4u, 0xA3u, 0x6Du, 0xDAu, 0x9Fu, 0x15u, 0x2Au, 0x54u,
-    0xA8u, 0x7Bu, 0xF6u, 0xC7u, 0xA5u, 0x61u, 0xC2u, 0xAFu,
-    0x75u, 0xEAu, 0xFFu, 0xD5u, 0x81u, 0x29u, 0x52u, 0xA4u,
-    0x63u, 0xC6u, 0xA7u, 0x65u, 0xCAu, 0xBFu, 0x55u, 0xAAu,
-    0x7Fu, 0xFEu, 0xD7u, 0x85u
+    0x60u, 0xC0u, 0xABu, 0x7Du, 0xFAu, 0xDFu, 0x95u
 };
 
 /* log[x] = i with alpha^i = x, for x = 1 .. 2^m - 1; log[0] is unused (0). */
@@ -146,9 +125,6 @@ METER_READING_TABLE_ATTR static const meter_reading_gf_t meter_reading_log[256] 
     0xDFu, 0x5Eu, 0x83u, 0xD6u, 0x79u, 0x7Fu, 0xA3u, 0x21u,
     0xCCu, 0x11u, 0xFCu, 0x40u, 0x94u, 0x56u, 0xBAu, 0xABu
 };
-
-#define METER_READING_EXP(i) METER_READING_TABLE_READ8(meter_reading_exp, i)
-#define METER_READING_LOG(x) METER_READING_TABLE_READ8(meter_reading_log, x)
 
 /* Rows of the linear map y -> y^2 + y of GF(2^8) in reduced echelon form (pivot bit, image, a preimage),
  * from Gaussian elimination in the bitmend model: a degree-2 locator is solved directly. */
@@ -205,43 +181,38 @@ static int meter_reading_fold(meter_reading_word_t reg[METER_READING_WORDS], con
 
 /* -- GF(2^8) arithmetic ------------------------------------------------------------------------------ */
 
-/* x mod 2^m - 1 without a division: 2^m = 1 there, so the high bits fold onto the low ones. */
-static uint32_t meter_reading_mod_order(uint32_t x)
+/* alpha^i for 0 <= i < 2 (2^m - 1): a sum of two logs. */
+static meter_reading_gf_t meter_reading_exp_of(meter_reading_uint_t i)
 {
-    while ((x >> METER_READING_M) != 0u) {
-        x = (x & METER_READING_ORDER) + (x >> METER_READING_M);
-    }
-    return x >= METER_READING_ORDER ? x - METER_READING_ORDER : x;
+    return METER_READING_EXP(i >= METER_READING_ORDER ? i - METER_READING_ORDER : i);
 }
 
 static meter_reading_gf_t meter_reading_mul(meter_reading_gf_t a, meter_reading_gf_t b)
 {
-    uint32_t e;
-
     if (a == 0u || b == 0u) {
         return 0;
     }
-    e = (uint32_t)METER_READING_LOG(a) + METER_READING_LOG(b);
-    if (e >= METER_READING_ORDER) {
-        e -= METER_READING_ORDER;
-    }
-    return METER_READING_EXP(e);
+    return meter_reading_exp_of((meter_reading_uint_t)METER_READING_LOG(a) + METER_READING_LOG(b));
 }
 
-/* a / b for b != 0. */
-static meter_reading_gf_t meter_reading_div(meter_reading_gf_t a, meter_reading_gf_t b)
+/* x as a prepared multiplier: its log, x != 0. */
+static meter_reading_uint_t meter_reading_factor(meter_reading_gf_t x)
 {
-    uint32_t e;
-
-    if (a == 0u) {
-        return 0;
-    }
-    e = (uint32_t)METER_READING_LOG(a) + METER_READING_ORDER - METER_READING_LOG(b);
-    if (e >= METER_READING_ORDER) {
-        e -= METER_READING_ORDER;
-    }
-    return METER_READING_EXP(e);
+    return METER_READING_LOG(x);
 }
+
+/* 1 / x as a prepared multiplier (a log, 1 .. 2^m - 1), x != 0. */
+static meter_reading_uint_t meter_reading_inv_factor(meter_reading_gf_t x)
+{
+    return METER_READING_ORDER - METER_READING_LOG(x);
+}
+
+/* a times a prepared multiplier f. */
+static meter_reading_gf_t meter_reading_scale(meter_reading_gf_t a, meter_reading_uint_t f)
+{
+    return a == 0u ? (meter_reading_gf_t)0u : meter_reading_exp_of((meter_reading_uint_t)METER_READING_LOG(a) + f);
+}
+
 
 /* -- decoding ----------------------------------------------------------------------------------------- */
 
@@ -280,123 +251,308 @@ static void meter_reading_syndromes(const meter_reading_word_t reg[METER_READING
     }
 }
 
-/* Berlekamp-Massey (Massey's shortest LFSR) over S_1 .. S_2t.  c[] receives the connection polynomial
- * C(x) = 1 + c1 x + ... ; returns its length L, or -1 when L > t or deg C != L (no error pattern of
- * weight <= t has these syndromes). */
-static int meter_reading_locator(const meter_reading_gf_t synd[METER_READING_TWO_T], meter_reading_gf_t c[METER_READING_T + 1u])
+/* Berlekamp-Massey over S = synd[0 .. METER_READING_TWO_T), started from the erasure locator in lam (degree `erasures`,
+ * lowest degree first, zero above); on return lam is the errata locator Lambda.  Returns the count of errors
+ * beyond the erasures, or -1 when no word within the code's reach has these syndromes: when
+ * 2 errors + erasures exceeds METER_READING_TWO_T, or deg Lambda differs from errors + erasures. */
+static int meter_reading_berlekamp(const meter_reading_gf_t synd[METER_READING_TWO_T], meter_reading_gf_t lam[METER_READING_TWO_T + 1u],
+                        unsigned erasures)
 {
-    meter_reading_gf_t prev[METER_READING_T + 1u];
-    meter_reading_gf_t copy[METER_READING_T + 1u];
-    meter_reading_gf_t d;
-    meter_reading_gf_t coef;
-    meter_reading_gf_t prev_d = 1;
-    unsigned length = 0;
-    unsigned shift = 1;
-    unsigned new_length;
-    unsigned step;
-    unsigned i;
+    meter_reading_gf_t b[METER_READING_TWO_T + 1u];
+    unsigned errors = 0;
+    unsigned ld = erasures;            /* lam[j] == 0 for j > ld */
+    unsigned bd = erasures;            /* b[j] == 0 for j > bd */
+    unsigned top;
+    unsigned r;
+    unsigned j;
+    unsigned k;                        /* loops count k up, j = top - k down: avr-gcc 5 -O3 misreads a */
+                                       /* plain downward loop as out of bounds (-Warray-bounds) */
+    meter_reading_uint_t fd;
+    meter_reading_uint_t fi;
+    meter_reading_gf_t delta;
+    meter_reading_gf_t old;
 
-    for (i = 0; i <= METER_READING_T; i++) {
-        c[i] = 0;
-        prev[i] = 0;
+    for (j = 0; j <= METER_READING_TWO_T; j++) {
+        b[j] = lam[j];
     }
-    c[0] = 1;
-    prev[0] = 1;
-    for (step = 0; step < METER_READING_TWO_T; step++) {
-        d = synd[step];
-        for (i = 1; i <= length; i++) {
-            d = (meter_reading_gf_t)(d ^ meter_reading_mul(c[i], synd[step - i]));
+    for (r = erasures; r < METER_READING_TWO_T; r++) {
+        delta = 0u;
+        /* r odd: S_(r+1) has an even index and the discrepancy is 0, so the sum is skipped */
+        for (j = 0; j <= ld && j <= r && (r & 1u) == 0u; j++) {
+            delta = (meter_reading_gf_t)(delta ^ meter_reading_mul(lam[j], synd[r - j]));
         }
-        if (d == 0u) {
-            shift++;
-            continue;
+        top = ld > bd + 1u ? ld : bd + 1u;
+        if (top > METER_READING_TWO_T) {
+            top = METER_READING_TWO_T;
         }
-        coef = meter_reading_div(d, prev_d);
-        if (2u * length <= step) {
-            new_length = step + 1u - length;
-            if (new_length > METER_READING_T) {
+        if (delta == 0u) {
+            /* b <- x b */
+            for (k = 0; k < top; k++) {
+                j = top - k;
+                b[j] = b[j - 1u];
+            }
+            b[0] = 0u;
+            bd = top;
+        } else if (2u * errors <= r - erasures) {
+            /* lam <- lam - delta x b and b <- lam / delta, from the old lam; the register grows */
+            fd = meter_reading_factor(delta);
+            fi = meter_reading_inv_factor(delta);
+            for (k = 0; k < top; k++) {
+                j = top - k;
+                old = lam[j];
+                lam[j] = (meter_reading_gf_t)(old ^ meter_reading_scale(b[j - 1u], fd));
+                b[j] = meter_reading_scale(old, fi);
+            }
+            b[0] = meter_reading_scale(lam[0], fi);
+            bd = ld;
+            ld = top;
+            errors = r + 1u - errors - erasures;
+            if (2u * errors + erasures > METER_READING_TWO_T) {
                 return -1;
             }
-            for (i = 0; i <= METER_READING_T; i++) {
-                copy[i] = c[i];
-            }
-            for (i = shift; i <= METER_READING_T; i++) {
-                c[i] = (meter_reading_gf_t)(c[i] ^ meter_reading_mul(coef, prev[i - shift]));
-            }
-            for (i = 0; i <= METER_READING_T; i++) {
-                prev[i] = copy[i];
-            }
-            prev_d = d;
-            length = new_length;
-            shift = 1;
         } else {
-            for (i = shift; i <= METER_READING_T; i++) {
-                c[i] = (meter_reading_gf_t)(c[i] ^ meter_reading_mul(coef, prev[i - shift]));
+            /* lam <- lam - delta x b, b <- x b */
+            fd = meter_reading_factor(delta);
+            for (k = 0; k < top; k++) {
+                j = top - k;
+                lam[j] = (meter_reading_gf_t)(lam[j] ^ meter_reading_scale(b[j - 1u], fd));
+                b[j] = b[j - 1u];
             }
-            shift++;
+            b[0] = 0u;
+            bd = top;
+            ld = top;
         }
     }
-    if (c[length] == 0u) {
-        return -1;
+    while (ld > 0u && lam[ld] == 0u) {
+        ld--;
     }
-    for (i = length + 1u; i <= METER_READING_T; i++) {
-        if (c[i] != 0u) {
-            return -1;
-        }
-    }
-    return (int)length;
+    return ld == errors + erasures ? (int)errors : -1;
 }
 
-/* Chien search over the transmitted positions 0 .. nbits-1 only: stores each p with C(alpha^-p) = 0
- * in where[] and returns how many were found (at most `length` = deg C).  Positions are visited
- * from the top down, 64 per pass; each root found is divided out of the polynomial. */
-static unsigned meter_reading_roots(const meter_reading_gf_t c[METER_READING_T + 1u], unsigned length, uint32_t nbits,
-                          meter_reading_pos_t where[METER_READING_T])
+/* u <- u mod v, v's top coefficient non-zero; lengths count coefficients (0: the zero polynomial), lowest
+ * degree first.  With quo, the quotient's coefficients go there (quo[0 .. lu - lv]).  Returns u's new length. */
+static unsigned meter_reading_divide(meter_reading_gf_t u[METER_READING_T + 1u], unsigned lu, const meter_reading_gf_t v[METER_READING_T + 1u],
+                                unsigned lv, meter_reading_gf_t *quo)
 {
-    meter_reading_gf_t q[METER_READING_T + 1u];      /* C(x) with the roots found so far divided out */
-    uint32_t expo[METER_READING_SLOTS];   /* per non-zero q_i: log(q_i) - i p mod 2^m - 1 at the pass's first p */
-    uint32_t power[METER_READING_SLOTS];  /* i: the growth of that exponent as p steps down */
-    meter_reading_gf_t acc[METER_READING_BLOCK];   /* q(alpha^-p) for the positions of one pass */
-    meter_reading_gf_t start = 1;
-    meter_reading_gf_t c2;
-    meter_reading_gf_t y;
-    uint32_t e0, e1, e2, e3;
-    uint32_t next = nbits;                  /* positions next - 1 down to 0 are still to search */
-    uint32_t top;
-    uint32_t u;
-    uint32_t blen;
-    uint32_t e;
-    uint32_t lg;
-    unsigned degree = length;
-    unsigned terms = 0;
-    unsigned slots = 0;
-    unsigned found = 0;
-    unsigned setup = 1;
-    unsigned i;
+    meter_reading_uint_t fi = meter_reading_inv_factor(v[lv - 1u]);
+    meter_reading_uint_t fq;
+    meter_reading_gf_t q;
+    unsigned e;
+    unsigned j;
     unsigned k;
 
-    for (i = 0; i <= length; i++) {
-        q[i] = c[i];
-    }
-    while (degree > 0u && next > 0u) {
-        top = next - 1u;
-        if (degree == 1u) {
-            /* q(x) = 1 + q1 x has its root at alpha^-p with alpha^p = q1: found if p is still to search */
-            e = METER_READING_LOG(q[1]);
-            if (e <= top) {
-                where[found] = (meter_reading_pos_t)e;
-                found++;
-            }
-            break;
+    for (k = 0; k + lv <= lu; k++) {
+        e = lu - 1u - k;                       /* the top coefficient, degree e down to lv - 1 */
+        q = meter_reading_scale(u[e], fi);
+        if (quo != NULL) {
+            quo[e + 1u - lv] = q;
         }
-        if (degree == 2u) {
-            /* q(x) = 1 + q1 x + q2 x^2 vanishes at X^-1 where X^2 + q1 X + q2 = 0; X = q1 y turns that into
-             * y^2 + y = c = q2 / q1^2, solved by reducing c with the rows of the linear map y^2 + y.  No
-             * solution, or q1 = 0 (a double root), leaves the roots unfound: the word is not decodable. */
-            if (q[1] == 0u) {
-                break;
+        if (q != 0u) {
+            fq = meter_reading_factor(q);
+            for (j = 0; j < lv; j++) {
+                u[e + 1u - lv + j] = (meter_reading_gf_t)(u[e + 1u - lv + j] ^ meter_reading_scale(v[j], fq));
             }
-            c2 = meter_reading_div(q[2], meter_reading_mul(q[1], q[1]));
+        }
+    }
+    if (lu >= lv) {
+        lu = lv - 1u;
+    }
+    while (lu > 0u && u[lu - 1u] == 0u) {
+        lu--;
+    }
+    return lu;
+}
+
+/* a <- a^2 mod sigma for a of degree < len, where sigma = z^len + the sum of s_j z^j and slog[j] = log s_j
+ * (METER_READING_ORDER for s_j = 0): the square's coefficients are the squares of a's, and each term z^d with
+ * d >= len folds down through z^len = the sum of s_j z^j. */
+static void meter_reading_square_mod(meter_reading_gf_t a[METER_READING_T + 1u], const meter_reading_gf_t slog[METER_READING_T], unsigned len)
+{
+    meter_reading_gf_t sq[2u * METER_READING_T - 1u];
+    meter_reading_uint_t lh;
+    unsigned d;
+    unsigned j;
+    unsigned k;
+
+    for (j = 0; j < len; j++) {
+        sq[2u * j] = a[j] == 0u ? (meter_reading_gf_t)0u : meter_reading_exp_of(2u * (meter_reading_uint_t)METER_READING_LOG(a[j]));
+        if (j + 1u < len) {
+            sq[2u * j + 1u] = 0u;
+        }
+    }
+    for (k = 0; k + 1u < len; k++) {           /* d = 2 len - 2 down to len */
+        d = 2u * len - 2u - k;
+        if (sq[d] != 0u) {
+            lh = METER_READING_LOG(sq[d]);
+            for (j = 0; j < len; j++) {
+                if (slog[j] != METER_READING_ORDER) {
+                    sq[d - len + j] = (meter_reading_gf_t)(sq[d - len + j] ^ meter_reading_exp_of(lh + slog[j]));
+                }
+            }
+        }
+    }
+    for (j = 0; j < len; j++) {
+        a[j] = sq[j];
+    }
+}
+
+/* The error positions: the roots X = alpha^p of sigma(z) = z^L C(1/z) (L = `length`), stored as p in where[]
+ * while each lies among the transmitted positions 0 .. nbits-1.  Returns how many were stored: L exactly when
+ * sigma has L distinct roots, all transmitted.  sigma splits into distinct linear factors exactly
+ * when z^(2^m) = z mod sigma; it is then factored by the traces Tr(beta z) = sum of (beta z)^(2^i), i < m,
+ * which are 0 or 1 at every root (the Berlekamp trace algorithm): gcd(factor, Tr(beta z) mod sigma) splits
+ * a factor, beta = alpha^0, alpha^1, ... in turn, until every factor has degree 1 or 2.  A factor z + X
+ * gives X; a quadratic z^2 + s1 z + s0 is solved directly: X = s1 y with y^2 + y = s0 / s1^2, which the rows
+ * of the linear map y^2 + y reduce (no solution, or s1 = 0 for a double root: not decodable). */
+static unsigned meter_reading_roots(const meter_reading_gf_t c[METER_READING_TWO_T + 1u], unsigned length, uint32_t nbits,
+                          meter_reading_pos_t where[METER_READING_T])
+{
+    meter_reading_gf_t fac[METER_READING_T];        /* the factors of sigma, monic, each as its low coefficients */
+    meter_reading_pos_t off[METER_READING_T];       /* factor f: fac[off[f] .. off[f] + deg[f]) */
+    meter_reading_pos_t deg[METER_READING_T];
+    meter_reading_gf_t slog[METER_READING_T];       /* logs of sigma's low coefficients, METER_READING_ORDER for 0 */
+    meter_reading_gf_t zlog[METER_READING_FIELD_M - 1u][METER_READING_T];   /* logs of z^(2^i) mod sigma, i = 1 .. m - 1 */
+    meter_reading_gf_t tr[METER_READING_T];         /* Tr(beta z) mod sigma */
+    meter_reading_gf_t u[METER_READING_T + 1u];
+    meter_reading_gf_t v[METER_READING_T + 1u];
+    meter_reading_gf_t quo[METER_READING_T + 1u];
+    meter_reading_gf_t *g;
+    meter_reading_gf_t *h;
+    meter_reading_uint_t fi;
+    meter_reading_uint_t lb;
+    unsigned big = length > 2u;             /* factors of degree 3 or more */
+    unsigned count;
+    unsigned lg;
+    unsigned lh;
+    unsigned lt;
+    unsigned d;
+    unsigned o;
+    unsigned b;
+    meter_reading_gf_t x[2] = {0, 0};          /* the roots of one factor */
+    meter_reading_gf_t s1;
+    meter_reading_gf_t c2;
+    meter_reading_gf_t y;
+    unsigned nfac = 1;
+    unsigned found = 0;
+    unsigned f;
+    unsigned i;
+    unsigned j;
+    unsigned e;
+
+    for (j = 0; j < length; j++) {
+        fac[j] = c[length - j];
+    }
+    off[0] = 0;
+    deg[0] = (meter_reading_pos_t)length;
+    for (j = 0; j < METER_READING_T; j++) {
+        tr[j] = 0;                          /* only the first `length` are used; all set for the compiler */
+        u[j] = 0;
+        v[j] = 0;
+        quo[j] = 0;
+    }
+    u[METER_READING_T] = 0;
+    v[METER_READING_T] = 0;
+    quo[METER_READING_T] = 0;
+    if (big) {
+        for (j = 0; j < length; j++) {
+            slog[j] = fac[j] == 0u ? (meter_reading_gf_t)METER_READING_ORDER : (meter_reading_gf_t)METER_READING_LOG(fac[j]);
+            u[j] = 0;
+        }
+        u[1] = 1;                           /* z */
+        for (i = 1; i <= METER_READING_FIELD_M; i++) {
+            meter_reading_square_mod(u, slog, length);
+            for (j = 0; j < length && i < METER_READING_FIELD_M; j++) {
+                zlog[i - 1u][j] = u[j] == 0u ? (meter_reading_gf_t)METER_READING_ORDER : (meter_reading_gf_t)METER_READING_LOG(u[j]);
+            }
+        }
+        for (j = 0; j < length; j++) {
+            if (u[j] != (j == 1u ? 1u : 0u)) {
+                return 0;                   /* z^(2^m) != z: not L distinct roots */
+            }
+        }
+    }
+    for (b = 0; b < METER_READING_FIELD_M && big > 0u; b++) {
+        /* Tr(beta z) = sum over i < m of beta^(2^i) z^(2^i), beta = alpha^b */
+        for (j = 0; j < length; j++) {
+            tr[j] = 0;
+        }
+        tr[1] = METER_READING_EXP(b);
+        lb = b;
+        for (i = 1; i < METER_READING_FIELD_M; i++) {
+            lb = lb + lb >= METER_READING_ORDER ? lb + lb - METER_READING_ORDER : lb + lb;     /* log of beta^(2^i) */
+            for (j = 0; j < length; j++) {
+                if (zlog[i - 1u][j] != METER_READING_ORDER) {
+                    tr[j] = (meter_reading_gf_t)(tr[j] ^ meter_reading_exp_of(lb + zlog[i - 1u][j]));
+                }
+            }
+        }
+        count = nfac;
+        for (f = 0; f < count; f++) {
+            d = deg[f];
+            o = off[f];
+            if (d < 3u) {
+                continue;
+            }
+            /* g = gcd(factor, tr mod factor) by Euclid's algorithm, in u and v */
+            for (j = 0; j < d; j++) {
+                u[j] = fac[o + j];
+            }
+            u[d] = 1;
+            for (j = 0; j < length; j++) {
+                v[j] = tr[j];
+            }
+            g = u;
+            h = v;
+            lg = d + 1u;
+            lh = meter_reading_divide(v, length, u, d + 1u, NULL);
+            while (lh > 0u) {
+                lt = meter_reading_divide(g, lg, h, lh, NULL);
+                lg = lh;
+                lh = lt;
+                if (g == u) {
+                    g = v;
+                    h = u;
+                } else {
+                    g = u;
+                    h = v;
+                }
+            }
+            if (lg < 2u || lg > d) {
+                continue;                   /* gcd 1 or the factor itself: beta does not split it */
+            }
+            fi = meter_reading_inv_factor(g[lg - 1u]);
+            for (j = 0; j < lg; j++) {
+                g[j] = meter_reading_scale(g[j], fi);
+            }
+            /* the factor = g * quo: both replace it, side by side */
+            for (j = 0; j < d; j++) {
+                h[j] = fac[o + j];
+            }
+            h[d] = 1;
+            (void)meter_reading_divide(h, d + 1u, g, lg, quo);
+            for (j = 0; j + 1u < lg; j++) {
+                fac[o + j] = g[j];
+            }
+            for (j = 0; j + lg <= d; j++) {
+                fac[o + lg - 1u + j] = quo[j];
+            }
+            deg[f] = (meter_reading_pos_t)(lg - 1u);
+            off[nfac] = (meter_reading_pos_t)(o + lg - 1u);
+            deg[nfac] = (meter_reading_pos_t)(d + 1u - lg);
+            nfac++;
+            big = big - 1u + (lg - 1u > 2u) + (d + 1u - lg > 2u);
+        }
+    }
+    for (f = 0; f < nfac; f++) {
+        if (deg[f] == 1u) {
+            x[0] = fac[off[f]];
+            j = 1;
+        } else if (deg[f] == 2u) {
+            s1 = fac[off[f] + 1u];
+            if (s1 == 0u) {
+                return found;
+            }
+            c2 = meter_reading_scale(fac[off[f]], meter_reading_inv_factor(meter_reading_mul(s1, s1)));
             y = 0;
             for (i = 0; i < METER_READING_QUAD_ROWS; i++) {
                 if ((c2 & METER_READING_TABLE_READ8(meter_reading_quad_bit, i)) != 0u) {
@@ -405,81 +561,24 @@ static unsigned meter_reading_roots(const meter_reading_gf_t c[METER_READING_T +
                 }
             }
             if (c2 != 0u) {
-                break;
+                return found;
             }
-            y = meter_reading_mul(q[1], y);                      /* X and X + q1, both non-zero */
-            e = METER_READING_LOG(y);
-            if (e <= top) {
-                where[found] = (meter_reading_pos_t)e;
-                found++;
-            }
-            e = METER_READING_LOG(y ^ q[1]);
-            if (e <= top) {
-                where[found] = (meter_reading_pos_t)e;
-                found++;
-            }
-            break;
+            x[0] = meter_reading_mul(s1, y);
+            x[1] = (meter_reading_gf_t)(x[0] ^ s1);
+            j = 2;
+        } else {
+            return found;
         }
-        if (setup) {
-            /* terms of q at position top; padded to groups of four with terms that stay at exp[0] = 1
-             * (an odd number of pads cancels the constant term 1) */
-            terms = 0;
-            for (i = 1; i <= degree; i++) {
-                if (q[i] != 0u) {
-                    e = meter_reading_mod_order((uint32_t)i * top);
-                    lg = METER_READING_LOG(q[i]);
-                    expo[terms] = lg >= e ? lg - e : lg + METER_READING_ORDER - e;
-                    power[terms] = i;
-                    terms++;
-                }
+        for (i = 0; i < j; i++) {
+            if (x[i] == 0u) {
+                return found;
             }
-            slots = (terms + 3u) & ~3u;
-            start = (meter_reading_gf_t)(((slots - terms) & 1u) != 0u ? 0u : 1u);
-            for (k = terms; k < slots; k++) {
-                expo[k] = 0;
-                power[k] = 0;
+            e = METER_READING_LOG(x[i]);
+            if (e >= nbits) {
+                return found;               /* a shortened-away position */
             }
-            setup = 0;
-        }
-        /* positions p = top - u, u < blen; term i contributes exp[expo + i * u], inside the table's
-         * run-on of 189 entries, so no index wraps within a pass */
-        blen = next < METER_READING_BLOCK ? next : METER_READING_BLOCK;
-        for (u = 0; u < blen; u++) {
-            acc[u] = start;
-        }
-        for (k = 0; k < slots; k += 4u) {
-            e0 = expo[k];
-            e1 = expo[k + 1u];
-            e2 = expo[k + 2u];
-            e3 = expo[k + 3u];
-            for (u = 0; u < blen; u++) {
-                acc[u] = (meter_reading_gf_t)(acc[u] ^ METER_READING_EXP(e0) ^ METER_READING_EXP(e1) ^ METER_READING_EXP(e2)
-                                         ^ METER_READING_EXP(e3));
-                e0 += power[k];
-                e1 += power[k + 1u];
-                e2 += power[k + 2u];
-                e3 += power[k + 3u];
-            }
-            /* each grew by i * blen <= 2^m - 1: one subtraction brings it back below 2^m - 1 */
-            expo[k] = e0 >= METER_READING_ORDER ? e0 - METER_READING_ORDER : e0;
-            expo[k + 1u] = e1 >= METER_READING_ORDER ? e1 - METER_READING_ORDER : e1;
-            expo[k + 2u] = e2 >= METER_READING_ORDER ? e2 - METER_READING_ORDER : e2;
-            expo[k + 3u] = e3 >= METER_READING_ORDER ? e3 - METER_READING_ORDER : e3;
-        }
-        next -= blen;
-        for (u = 0; u < blen; u++) {
-            if (acc[u] == 0u && degree > 0u) {
-                /* a root at p: record it and divide q by (1 + alpha^p x), so later passes need fewer terms */
-                e = top - u;
-                where[found] = (meter_reading_pos_t)e;
-                found++;
-                for (i = 1; i < degree; i++) {
-                    q[i] = (meter_reading_gf_t)(q[i] ^ meter_reading_mul(METER_READING_EXP(e), q[i - 1u]));
-                }
-                q[degree] = 0;
-                degree--;
-                setup = 1;
-            }
+            where[found] = (meter_reading_pos_t)e;
+            found++;
         }
     }
     return found;
@@ -514,7 +613,7 @@ int meter_reading_decode(uint8_t *data, size_t data_len, uint8_t *parity)
 {
     meter_reading_word_t reg[METER_READING_WORDS];
     meter_reading_gf_t synd[METER_READING_TWO_T];
-    meter_reading_gf_t c[METER_READING_T + 1u];
+    meter_reading_gf_t c[METER_READING_TWO_T + 1u];   /* the locator C(x), lowest degree first */
     meter_reading_pos_t where[METER_READING_T];
     uint32_t nbits;
     uint32_t q;
@@ -533,7 +632,11 @@ int meter_reading_decode(uint8_t *data, size_t data_len, uint8_t *parity)
         return 0;                              /* a codeword: every syndrome is zero */
     }
     meter_reading_syndromes(reg, synd);
-    length = meter_reading_locator(synd, c);
+    c[0] = 1;
+    for (i = 1; i <= METER_READING_TWO_T; i++) {
+        c[i] = 0;
+    }
+    length = meter_reading_berlekamp(synd, c, 0u);
     if (length < 0) {
         return METER_READING_ERR_UNCORRECTABLE;
     }

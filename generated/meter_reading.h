@@ -33,8 +33,8 @@ extern "C" {
  * shortened-away position) returns METER_READING_ERR_UNCORRECTABLE with both buffers unchanged.
  *
  * Profile small: encoder by a 16-entry remainder table, GF(2^8) arithmetic by exp/log tables.
- * Constant tables: 785 bytes (profiles: fast 4817, small 785, tiny 4).
- * Stack: at most 608 bytes (128 of them local arrays).
+ * Constant tables: 596 bytes (profiles: fast 4628, small 596, tiny 4).
+ * Stack: at most 668 bytes (92 of them local arrays).
  */
 #define METER_READING_N                 152u         /* codeword length of the largest block, bits */
 #define METER_READING_K                 128u         /* data length of the largest block, bits */
@@ -42,8 +42,8 @@ extern "C" {
 #define METER_READING_DATA_BYTES        16u          /* largest data block, bytes */
 #define METER_READING_PARITY_BYTES      3u           /* check bytes for the largest block */
 #define METER_READING_CORRECTABLE       3            /* = _T, as an int like _decode's return */
-#define METER_READING_TABLE_BYTES       785u         /* constant table bytes in the .c */
-#define METER_READING_STACK_BYTES       608u         /* worst-case stack bound, bytes */
+#define METER_READING_TABLE_BYTES       596u         /* constant table bytes in the .c */
+#define METER_READING_STACK_BYTES       668u         /* worst-case stack bound, bytes */
 #define METER_READING_ERR_UNCORRECTABLE (-1)         /* errors found that the code cannot correct */
 #define METER_READING_ERR_LENGTH        (-2)         /* a data_len the code does not take */
 #define METER_READING_ERR_ARG           (-3)         /* a NULL buffer or an invalid argument */

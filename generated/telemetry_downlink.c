@@ -36,8 +36,16 @@ static int telemetry_downlink_codeword_decode_erasures(uint8_t *data, size_t dat
 #define TELEMETRY_DOWNLINK_TABLE_READ64(table, index) ((table)[index])
 #endif
 
+typedef uint8_t telemetry_downlink_gf_t;      /* an element of GF(2^8), polynomial basis */
+typedef unsigned telemetry_downlink_uint_t;   /* holds a sum of two logs, and a product before its reduction */
+
+#define TELEMETRY_DOWNLINK_FIELD_M    8u   /* bits of a field element */
+#define TELEMETRY_DOWNLINK_ORDER      ((telemetry_downlink_uint_t)255u)   /* 2^m - 1: order of alpha */
+#define TELEMETRY_DOWNLINK_EXP(i) TELEMETRY_DOWNLINK_TABLE_READ8(telemetry_downlink_exp, i)
+#define TELEMETRY_DOWNLINK_LOG(x) TELEMETRY_DOWNLINK_TABLE_READ8(telemetry_downlink_log, x)
+
+
 #define TELEMETRY_DOWNLINK_NROOTS        32u   /* parity symbols n - k: the generator's degree */
-#define TELEMETRY_DOWNLINK_ORDER         255u  /* multiplicative group order 2^8 - 1 */
 #define TELEMETRY_DOWNLINK_ZERO_LOG      255u  /* marks a zero coefficient among logs (which are 0..254) */
 #define TELEMETRY_DOWNLINK_BETA_LOG      1u   /* log_alpha of beta */
 #define TELEMETRY_DOWNLINK_BETA_INV_LOG  254u  /* log_alpha of beta^-1 */
@@ -1006,56 +1014,54 @@ TELEMETRY_DOWNLINK_TABLE_ATTR static const uint8_t telemetry_downlink_log[256] =
     0x4Fu, 0xAEu, 0xD5u, 0xE9u, 0xE6u, 0xE7u, 0xADu, 0xE8u, 0x74u, 0xD6u, 0xF4u, 0xEAu, 0xA8u, 0x50u, 0x58u, 0xAFu
 };
 
-#define TELEMETRY_DOWNLINK_EXP(i) TELEMETRY_DOWNLINK_TABLE_READ8(telemetry_downlink_exp, i)
-#define TELEMETRY_DOWNLINK_LOG(x) TELEMETRY_DOWNLINK_TABLE_READ8(telemetry_downlink_log, x)
-
 /* -- GF(2^8) arithmetic ------------------------------------------------------------------------------ */
 
-/* alpha^i for 0 <= i < 510. */
-static uint8_t telemetry_downlink_exp_of(unsigned i)
+/* x mod 2^m - 1 without a division: 2^m = 1 there, so the high bits fold onto the low ones. */
+static telemetry_downlink_uint_t telemetry_downlink_mod_order(telemetry_downlink_uint_t x)
+{
+    while ((x >> TELEMETRY_DOWNLINK_FIELD_M) != 0u) {
+        x = (x & TELEMETRY_DOWNLINK_ORDER) + (x >> TELEMETRY_DOWNLINK_FIELD_M);
+    }
+    return x >= TELEMETRY_DOWNLINK_ORDER ? x - TELEMETRY_DOWNLINK_ORDER : x;
+}
+
+/* alpha^i for 0 <= i < 2 (2^m - 1): a sum of two logs. */
+static telemetry_downlink_gf_t telemetry_downlink_exp_of(telemetry_downlink_uint_t i)
 {
     return TELEMETRY_DOWNLINK_EXP(i);
 }
 
-/* x mod 255 without a division: 256 = 1 there, so the high byte folds onto the low one. */
-static unsigned telemetry_downlink_mod255(unsigned x)
-{
-    while (x > TELEMETRY_DOWNLINK_ORDER) {
-        x = (x & 0xFFu) + (x >> 8);
-    }
-    return x == TELEMETRY_DOWNLINK_ORDER ? 0u : x;
-}
-
-static uint8_t telemetry_downlink_mul(uint8_t a, uint8_t b)
+static telemetry_downlink_gf_t telemetry_downlink_mul(telemetry_downlink_gf_t a, telemetry_downlink_gf_t b)
 {
     if (a == 0u || b == 0u) {
-        return 0u;
+        return 0;
     }
-    return telemetry_downlink_exp_of((unsigned)TELEMETRY_DOWNLINK_LOG(a) + TELEMETRY_DOWNLINK_LOG(b));
+    return telemetry_downlink_exp_of((telemetry_downlink_uint_t)TELEMETRY_DOWNLINK_LOG(a) + TELEMETRY_DOWNLINK_LOG(b));
 }
 
-/* beta^p */
-static uint8_t telemetry_downlink_beta_pow(unsigned p)
-{
-    return telemetry_downlink_exp_of(telemetry_downlink_mod255(p * TELEMETRY_DOWNLINK_BETA_LOG));
-}
-
-/* A multiplier prepared once for several products: its log, x != 0. */
-static unsigned telemetry_downlink_factor(uint8_t x)
+/* x as a prepared multiplier: its log, x != 0. */
+static telemetry_downlink_uint_t telemetry_downlink_factor(telemetry_downlink_gf_t x)
 {
     return TELEMETRY_DOWNLINK_LOG(x);
 }
 
-/* 1 / x as a prepared multiplier (a log, 1..255), x != 0. */
-static unsigned telemetry_downlink_inv_factor(uint8_t x)
+/* 1 / x as a prepared multiplier (a log, 1 .. 2^m - 1), x != 0. */
+static telemetry_downlink_uint_t telemetry_downlink_inv_factor(telemetry_downlink_gf_t x)
 {
     return TELEMETRY_DOWNLINK_ORDER - TELEMETRY_DOWNLINK_LOG(x);
 }
 
 /* a times a prepared multiplier f. */
-static uint8_t telemetry_downlink_scale(uint8_t a, unsigned f)
+static telemetry_downlink_gf_t telemetry_downlink_scale(telemetry_downlink_gf_t a, telemetry_downlink_uint_t f)
 {
-    return a == 0u ? (uint8_t)0u : telemetry_downlink_exp_of((unsigned)TELEMETRY_DOWNLINK_LOG(a) + f);
+    return a == 0u ? (telemetry_downlink_gf_t)0u : telemetry_downlink_exp_of((telemetry_downlink_uint_t)TELEMETRY_DOWNLINK_LOG(a) + f);
+}
+
+
+/* beta^p */
+static uint8_t telemetry_downlink_beta_pow(unsigned p)
+{
+    return telemetry_downlink_exp_of(telemetry_downlink_mod_order(p * TELEMETRY_DOWNLINK_BETA_LOG));
 }
 
 /* -- encoder ----------------------------------------------------------------------------------------- */
@@ -1247,12 +1253,14 @@ static void telemetry_downlink_syndromes(const uint8_t rem[TELEMETRY_DOWNLINK_NR
     }
 }
 
-/* Berlekamp-Massey started from the erasure locator already in lam (degree `erasures`, lowest degree
- * first); on return lam is the errata locator.  Returns the count of errors (beyond the erasures). */
-static unsigned telemetry_downlink_berlekamp(const uint8_t synd[TELEMETRY_DOWNLINK_NROOTS], uint8_t lam[TELEMETRY_DOWNLINK_NROOTS + 1u],
-                                  unsigned erasures)
+/* Berlekamp-Massey over S = synd[0 .. TELEMETRY_DOWNLINK_NROOTS), started from the erasure locator in lam (degree `erasures`,
+ * lowest degree first, zero above); on return lam is the errata locator Lambda.  Returns the count of errors
+ * beyond the erasures, or -1 when no word within the code's reach has these syndromes: when
+ * 2 errors + erasures exceeds TELEMETRY_DOWNLINK_NROOTS, or deg Lambda differs from errors + erasures. */
+static int telemetry_downlink_berlekamp(const telemetry_downlink_gf_t synd[TELEMETRY_DOWNLINK_NROOTS], telemetry_downlink_gf_t lam[TELEMETRY_DOWNLINK_NROOTS + 1u],
+                        unsigned erasures)
 {
-    uint8_t b[TELEMETRY_DOWNLINK_NROOTS + 1u];
+    telemetry_downlink_gf_t b[TELEMETRY_DOWNLINK_NROOTS + 1u];
     unsigned errors = 0;
     unsigned ld = erasures;            /* lam[j] == 0 for j > ld */
     unsigned bd = erasures;            /* b[j] == 0 for j > bd */
@@ -1261,10 +1269,10 @@ static unsigned telemetry_downlink_berlekamp(const uint8_t synd[TELEMETRY_DOWNLI
     unsigned j;
     unsigned k;                        /* loops count k up, j = top - k down: avr-gcc 5 -O3 misreads a */
                                        /* plain downward loop as out of bounds (-Warray-bounds) */
-    unsigned fd;
-    unsigned fi;
-    uint8_t delta;
-    uint8_t old;
+    telemetry_downlink_uint_t fd;
+    telemetry_downlink_uint_t fi;
+    telemetry_downlink_gf_t delta;
+    telemetry_downlink_gf_t old;
 
     for (j = 0; j <= TELEMETRY_DOWNLINK_NROOTS; j++) {
         b[j] = lam[j];
@@ -1272,7 +1280,7 @@ static unsigned telemetry_downlink_berlekamp(const uint8_t synd[TELEMETRY_DOWNLI
     for (r = erasures; r < TELEMETRY_DOWNLINK_NROOTS; r++) {
         delta = 0u;
         for (j = 0; j <= ld && j <= r; j++) {
-            delta ^= telemetry_downlink_mul(lam[j], synd[r - j]);
+            delta = (telemetry_downlink_gf_t)(delta ^ telemetry_downlink_mul(lam[j], synd[r - j]));
         }
         top = ld > bd + 1u ? ld : bd + 1u;
         if (top > TELEMETRY_DOWNLINK_NROOTS) {
@@ -1293,19 +1301,22 @@ static unsigned telemetry_downlink_berlekamp(const uint8_t synd[TELEMETRY_DOWNLI
             for (k = 0; k < top; k++) {
                 j = top - k;
                 old = lam[j];
-                lam[j] = (uint8_t)(old ^ telemetry_downlink_scale(b[j - 1u], fd));
+                lam[j] = (telemetry_downlink_gf_t)(old ^ telemetry_downlink_scale(b[j - 1u], fd));
                 b[j] = telemetry_downlink_scale(old, fi);
             }
             b[0] = telemetry_downlink_scale(lam[0], fi);
             bd = ld;
             ld = top;
             errors = r + 1u - errors - erasures;
+            if (2u * errors + erasures > TELEMETRY_DOWNLINK_NROOTS) {
+                return -1;
+            }
         } else {
             /* lam <- lam - delta x b, b <- x b */
             fd = telemetry_downlink_factor(delta);
             for (k = 0; k < top; k++) {
                 j = top - k;
-                lam[j] = (uint8_t)(lam[j] ^ telemetry_downlink_scale(b[j - 1u], fd));
+                lam[j] = (telemetry_downlink_gf_t)(lam[j] ^ telemetry_downlink_scale(b[j - 1u], fd));
                 b[j] = b[j - 1u];
             }
             b[0] = 0u;
@@ -1313,7 +1324,10 @@ static unsigned telemetry_downlink_berlekamp(const uint8_t synd[TELEMETRY_DOWNLI
             ld = top;
         }
     }
-    return errors;
+    while (ld > 0u && lam[ld] == 0u) {
+        ld--;
+    }
+    return ld == errors + erasures ? (int)errors : -1;
 }
 
 /* Chien search over the transmitted positions only: power p = 0 .. total-1 (p = 0 is the last parity
@@ -1347,7 +1361,7 @@ static unsigned telemetry_downlink_chien(const uint8_t lam[TELEMETRY_DOWNLINK_NR
             if (lam[i] != 0u) {
                 lg[nt] = TELEMETRY_DOWNLINK_LOG(lam[i]);
                 for (k = 0; k < 4u; k++) {
-                    st[k][nt] = (uint16_t)telemetry_downlink_mod255((k + 1u) * telemetry_downlink_mod255(i * TELEMETRY_DOWNLINK_BETA_INV_LOG));
+                    st[k][nt] = (uint16_t)telemetry_downlink_mod_order((k + 1u) * telemetry_downlink_mod_order(i * TELEMETRY_DOWNLINK_BETA_INV_LOG));
                 }
                 nt++;
             }
@@ -1422,7 +1436,7 @@ static void telemetry_downlink_forney(const uint8_t synd[TELEMETRY_DOWNLINK_NROO
     }
     for (f = 0; f < deg; f++) {
         p = where[f];
-        xl = telemetry_downlink_mod255(p * TELEMETRY_DOWNLINK_BETA_INV_LOG);
+        xl = telemetry_downlink_mod_order(p * TELEMETRY_DOWNLINK_BETA_INV_LOG);
         acc = om[deg - 1u];
         for (j = 1; j < deg; j++) {            /* Horner from the top; counting up keeps avr-gcc 5 -O3 quiet */
             if (acc != 0u) {
@@ -1433,8 +1447,8 @@ static void telemetry_downlink_forney(const uint8_t synd[TELEMETRY_DOWNLINK_NROO
         if (acc == 0u) {
             value[f] = 0u;
         } else {
-            value[f] = telemetry_downlink_exp_of(telemetry_downlink_mod255((unsigned)TELEMETRY_DOWNLINK_LOG(acc) + 2u * TELEMETRY_DOWNLINK_ORDER
-                                                     - TELEMETRY_DOWNLINK_LOG(odd_part[f]) - telemetry_downlink_mod255(p * TELEMETRY_DOWNLINK_FR_LOG)));
+            value[f] = telemetry_downlink_exp_of(telemetry_downlink_mod_order((unsigned)TELEMETRY_DOWNLINK_LOG(acc) + 2u * TELEMETRY_DOWNLINK_ORDER
+                                                     - TELEMETRY_DOWNLINK_LOG(odd_part[f]) - telemetry_downlink_mod_order(p * TELEMETRY_DOWNLINK_FR_LOG)));
         }
     }
 }
@@ -1452,7 +1466,7 @@ static int telemetry_downlink_correct(uint8_t *data, size_t data_len, uint8_t *p
     uint8_t value[TELEMETRY_DOWNLINK_NROOTS];
     unsigned total = (unsigned)data_len + TELEMETRY_DOWNLINK_NROOTS;
     unsigned diff = 0;
-    unsigned errors;
+    int errors;
     unsigned deg;
     unsigned fixes = 0;
     unsigned pos;
@@ -1486,13 +1500,10 @@ static int telemetry_downlink_correct(uint8_t *data, size_t data_len, uint8_t *p
         }
     }
     errors = telemetry_downlink_berlekamp(synd, lam, count);
-    deg = TELEMETRY_DOWNLINK_NROOTS;
-    while (deg > 0u && lam[deg] == 0u) {
-        deg--;
-    }
-    if (2u * errors + count > TELEMETRY_DOWNLINK_NROOTS || deg != count + errors) {
+    if (errors < 0) {
         return TELEMETRY_DOWNLINK_ERR_UNCORRECTABLE;
     }
+    deg = count + (unsigned)errors;
     if (telemetry_downlink_chien(lam, deg, total, where, odd_part) != deg) {
         return TELEMETRY_DOWNLINK_ERR_UNCORRECTABLE;   /* too many errors, or one in a shortened-away symbol */
     }

@@ -328,6 +328,6 @@ def test_header_states_tables_and_stack():
     assert f"#define FLASH_PAGE_TABLE_BYTES       {model.properties.table_bytes}u" in header
     assert "Stack: at most" in header and "FLASH_PAGE_STACK_BYTES" in header
     # fast: four byte-chunk step tables of 256 rows of 4 words (16 KiB, issue 9's budget 64 KiB in all),
-    # exp 8191 + run-on, log 8192, three 12-row quadratic tables; 16-bit entries
-    assert model.properties.table_bytes == 4 * 256 * 16 + 2 * (8191 + model.exp_extra + 8192 + 3 * 12)
+    # exp 8191, log 8192, three 12-row quadratic tables; 16-bit entries
+    assert model.properties.table_bytes == 4 * 256 * 16 + 2 * (8191 + 8192 + 3 * 12)
     assert model.properties.table_bytes <= 64 * 1024

@@ -115,22 +115,21 @@ class Bch(CodeModel):
         self._exp = self.field.exp_list
         self._log = self.field.log_list
         self._exp_np = self.field.exp[:self.order].copy()
-        # The C's Chien search evaluates `chien_block` positions per pass with exponents that grow by i per
-        # position and are reduced once per pass: t * block <= 2^m - 1 keeps one subtraction enough, and the
-        # exp table runs on by t * (block - 1) entries so that no index inside a pass wraps.
-        self.chien_block = max(1, min(64, min(1024, self.order) // t))
-        self.exp_extra = t * (self.chien_block - 1)
-        self.term_slots = (t + 3) // 4 * 4
         self.unrolled = self.reg_words <= UNROLL_WORDS
         self._log_np = self.field.log.copy()
         self._step = None
         # the direct solution of a degree-2 locator (t >= 2 only): gf.Field.quadratic_solver's rows
         self._quad = self.field.quadratic_solver() if t >= 2 else []
 
+    @property
+    def split(self) -> bool:
+        """The C finds the roots of a locator of degree 3 or more by splitting it (profiles with tables)."""
+        return self.t >= 3 and self.spec.profile != "tiny"
+
     # -- description -----------------------------------------------------------------------------------
     def table_bytes_for(self, profile: str) -> int:
         es = ctype_bytes(self.gf_ctype)
-        gf = (self.order + self.exp_extra + (self.order + 1) + 3 * len(self._quad)) * es   # exp, log, quad rows
+        gf = (self.order + (self.order + 1) + 3 * len(self._quad)) * es   # exp, log, quad rows
         word = WORD_BITS // 8 * self.reg_words
         return {"fast": 4 * len(self.step()["table"]) + gf, "small": 16 * word + gf, "tiny": word}[profile]
 
@@ -164,7 +163,9 @@ class Bch(CodeModel):
         if self.spec.profile == "tiny":
             roots = t * es + 2 * t                                           # term, power
         else:
-            roots = (t + 1) * es + 2 * 4 * self.term_slots + self.chien_block * es   # q, expo, power, acc
+            roots = t * es + 2 * 2 * t                                       # fac, off, deg
+            if self.split:                                                   # slog, zlog, tr; u, v, quo;
+                roots += (2 + self.m) * t * es + 3 * (t + 1) * es + (2 * t - 1) * es   # square_mod(): sq
         # the fast remainder keeps its register in an array when it is too long for scalar locals
         remainder = 4 * self.reg_words if self.spec.profile == "fast" and not self.unrolled else 0
         return decode + locator + roots + remainder
@@ -356,10 +357,8 @@ class Bch(CodeModel):
             "gen_words": self._aligned_words(self.generator & self._mask),
             "rem_table": self.rem_table(4) if profile == "small" else [],
             "step": self.step() if profile == "fast" else None,
-            "exp_table": (self._exp + self._exp[:self.exp_extra]) if profile != "tiny" else [],
-            "exp_extra": self.exp_extra,
-            "chien_block": self.chien_block,
-            "term_slots": self.term_slots,
+            "exp_table": self._exp if profile != "tiny" else [],
+            "split": self.split,
             "unrolled": self.unrolled,
             "words": [{"i": w, "next": w + 1, "last": w == self.reg_words - 1} for w in range(self.reg_words)],
             "main_bits": {"fast": 8, "small": 4, "tiny": 1}[profile],
