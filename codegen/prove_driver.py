@@ -10,7 +10,6 @@ combinations of w units in colexicographic order, V = 2^unit_bits - 1 values per
 """
 from __future__ import annotations
 
-import functools
 import hashlib
 import math
 import time
@@ -44,14 +43,9 @@ def scratch_bytes(n_words: int, length: int) -> int:
     return GUARD + n_words * (2 * span + GUARD) + 2 * span
 
 
-@functools.cache
-def _environment():
-    return emit.environment()
-
-
 def driver_source(model: CodeModel) -> str:
     spec = model.spec
-    return _environment().get_template("prove_driver.c.j2").render(
+    return emit.environment().get_template("prove_driver.c.j2").render(
         name=spec.name, NAME=spec.name.upper(), version=__version__, spec_file=spec.source_name,
         shard_decl=shard_decl(spec.name), max_weight=MAX_WEIGHT, guard=GUARD)
 
@@ -112,7 +106,7 @@ def make_job(model: CodeModel, data_len: int) -> Job:
     """Render the module and its driver, compile them here (the workers then find them in the cache) and
     encode the codewords with the C: the all-zero data block and CODEWORDS - 1 random ones."""
     name = model.spec.name
-    files = dict(emit.render(model, _environment()))
+    files = dict(emit.render(model))
     files[f"{name}_prove.c"] = driver_source(model)
     plen = model.parity_len(data_len)
     units = tuple(model.error_units(data_len))
