@@ -7,7 +7,7 @@ from pathlib import Path
 import numpy as np
 import pytest
 
-from bitmend import cli, verify
+from bitmend import cli, emit, verify
 from bitmend.codes.base import ERR_ARG, ERR_LENGTH, ERR_UNCORRECTABLE
 from bitmend.gf import DEFAULT_PRIMITIVE, bin_mod
 from conftest import ROOT, compile_model, make_model
@@ -187,6 +187,19 @@ def test_edge_campaign(name, m, t, data_bits, poly, profile):
 def test_edge_stack_bound(name, m, t, data_bits, poly, profile, tmp_path):
     from test_header_figures import check_stack_bound
     check_stack_bound(make_model(bch_toml(name, m, t, data_bits, poly, profile)), tmp_path, ("-O0", "-O2"))
+
+
+def test_tiny_root_search_by_horner_for_large_t(tmp_path):
+    """The tiny profile evaluates the locator by Horner's rule once t > 4 m (m = 6: t = 25 against 24);
+    the campaign against the model and the stated stack bound hold on that path."""
+    from test_header_figures import check_stack_bound
+    model = make_model(bch_toml("e_m6_horner", 6, 25, None, None, "tiny"))
+    assert model.horner and not make_model(bch_toml("e_m6_halve", 6, 24, None, None, "tiny")).horner
+    assert "Horner" in emit.render(model)["e_m6_horner.c"]
+    report = verify.campaign(model, compile_model(model), seed=9, budget=25, progress=False)
+    assert report.ok, report.table()
+    assert report.cases["weight 25"] > 0 and report.cases["weight 26 (beyond t)"] > 0
+    check_stack_bound(model, tmp_path, ("-O0", "-O2"))
 
 
 def test_wide_register_is_looped_and_edges_are_shaped_as_claimed():

@@ -126,6 +126,13 @@ class Bch(CodeModel):
         """The C finds the roots of a locator of degree 3 or more by splitting it (profiles with tables)."""
         return self.t >= 3 and self.spec.profile != "tiny"
 
+    @property
+    def horner(self) -> bool:
+        """The tiny profile's Chien search evaluates C(alpha^-p) by Horner's rule (deg C products of up to m
+        shift-and-add steps a position) instead of stepping term i by i halvings (about t^2 / 2 halvings a
+        position): cheaper once t exceeds about 4 m, counting a product step as two halvings."""
+        return self.spec.profile == "tiny" and self.t > 4 * self.m
+
     # -- description -----------------------------------------------------------------------------------
     def table_bytes_for(self, profile: str) -> int:
         es = ctype_bytes(self.gf_ctype)
@@ -161,7 +168,7 @@ class Bch(CodeModel):
         decode = 4 * self.reg_words + 2 * t * es + (2 * t + 1) * es + 2 * t  # reg, synd, c, where
         locator = (2 * t + 1) * es                                           # berlekamp(): b
         if self.spec.profile == "tiny":
-            roots = t * es + 2 * t                                           # term, power
+            roots = 0 if self.horner else t * es + 2 * t                    # term, power
         else:
             roots = t * es + 2 * 2 * t                                       # fac, off, deg
             if self.split:                                                   # slog, zlog, tr; u, v, quo;
@@ -359,6 +366,7 @@ class Bch(CodeModel):
             "step": self.step() if profile == "fast" else None,
             "exp_table": self._exp if profile != "tiny" else [],
             "split": self.split,
+            "horner": self.horner,
             "unrolled": self.unrolled,
             "words": [{"i": w, "next": w + 1, "last": w == self.reg_words - 1} for w in range(self.reg_words)],
             "main_bits": {"fast": 8, "small": 4, "tiny": 1}[profile],
