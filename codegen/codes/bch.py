@@ -330,20 +330,16 @@ class Bch(CodeModel):
         pad = 8 * self.parity_bytes - self.r
         last_parity_mask = (0xFF << pad) & 0xFF
         t = self.t
-        es = ctype_bytes(self.gf_ctype)
         return {
             "m": self.m,
             "t": t,
             "two_t": 2 * t,
-            "t_plus_1": t + 1,
             "order": self.order,
             "k_parent": self.k_parent,
             "data_bits": self.data_bits,
             "parity_bits": self.r,
             "aligned": self.aligned,
             "tail_bits": tail,                      # data bits in the last data byte when not aligned
-            "tail_shift": 8 - tail if tail else 0,
-            "tail_reg_shift": WORD_BITS - tail if tail else 0,
             "full_bytes": self.data_bits // 8,
             "data_pad_bits": (8 - tail) % 8,
             "parity_pad_bits": pad,
@@ -351,16 +347,10 @@ class Bch(CodeModel):
             "last_parity_mask": last_parity_mask,
             "reg_words": self.reg_words,
             "reg_bits": WORD_BITS * self.reg_words,
-            "reg_last": self.reg_words - 1,
-            "gf_ctype": self.gf_ctype,
             "field": field_context(self.field, exp_doubled=False),
-            "gf_bits": 8 * es,
             "field_poly": self.field_poly,
-            "field_top": 1 << (self.m - 1),
-            "field_low": self.field_poly ^ (1 << self.m),       # alpha^m in the polynomial basis
             "field_poly_half": self.field_poly >> 1,            # (poly xor 1) >> 1 = alpha^-1, for halving
             "generator": self.generator,
-            "generator_bits": self.r + 1,
             "gen_words": self._aligned_words(self.generator & self._mask),
             "rem_table": self.rem_table(4) if profile == "small" else [],
             "step": self.step() if profile == "fast" else None,
@@ -369,7 +359,6 @@ class Bch(CodeModel):
             "horner": self.horner,
             "unrolled": self.unrolled,
             "words": [{"i": w, "next": w + 1, "last": w == self.reg_words - 1} for w in range(self.reg_words)],
-            "main_bits": {"fast": 8, "small": 4, "tiny": 1}[profile],
             "main_shift": WORD_BITS - {"fast": 8, "small": 4, "tiny": 1}[profile],
             "log_table": self._log if profile != "tiny" else [],
             # the rows of the direct solution of a degree-2 locator, as three tables

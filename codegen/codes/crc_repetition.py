@@ -265,5 +265,4 @@ class CrcRepetition(CodeModel):
             "turned": profile == "tiny" and crc.turned,
             "step_image": crc.step_image,
             "top_shift": crc.reg_bits - 1,
-            "top_nibble_shift": crc.reg_bits - 4,
         }

@@ -29,7 +29,7 @@ import numpy as np
 
 from ..gf import Field, degree, field_context, is_primitive, step_context
 from ..spec import Spec, SpecError
-from .base import ERR_ARG, ERR_LENGTH, ERR_UNCORRECTABLE, FRAME_BYTES, CodeModel, Properties
+from .base import ERR_ARG, ERR_LENGTH, ERR_UNCORRECTABLE, CodeModel, Properties
 
 TABLE = "reed-solomon"
 SYMBOL_BITS = 8
@@ -342,7 +342,6 @@ class ReedSolomon(CodeModel):
             "generator": self.generator,
             "tables": tables,
             "step": self.step() if self.spec.profile == "fast" else None,
-            "table_sizes": {k: len(v) for k, v in tables.items()},
             # log_alpha of beta^-1 (Chien step per degree), of beta^first_root (Forney), and the
             # field elements the tiny profile starts from
             "beta_inv_log": (ORDER - self.root_step) % ORDER,
@@ -353,5 +352,4 @@ class ReedSolomon(CodeModel):
             "beta_fr_inv": self._exp[(ORDER - self.root_step * self.first_root % ORDER) % ORDER],
             "zero_log": ZERO_LOG,
             "order": ORDER,
-            "frame_bytes": FRAME_BYTES,
         }
