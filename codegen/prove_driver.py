@@ -37,10 +37,11 @@ def shard_decl(name: str) -> str:
 
 
 def scratch_bytes(n_words: int, length: int) -> int:
-    """The driver's scratch for n_words codewords of `length` bytes (its layout: guard, then each frame
-    padded to whole 64-bit words (two at least) and a guard, the padded copies, two padded differences)."""
+    """The driver's scratch for n_words codewords of `length` bytes (its layout: guard, then for each
+    codeword its frame padded to whole 64-bit words (two at least), a guard, its padded copy and a guard;
+    two padded differences)."""
     span = max(16, -(-length // 8) * 8)
-    return GUARD + n_words * (2 * span + GUARD) + 2 * span
+    return GUARD + n_words * 2 * (span + GUARD) + 2 * span
 
 
 def driver_source(model: CodeModel) -> str:
