@@ -29,6 +29,8 @@ DASK = Path(sys.executable).parent / "dask"
 CODES = {
     "h74": '[code]\nname = "h74"\nfamily = "hamming"\n[hamming]\ndata_bits = 4\nsecded = false\n',
     "secded": '[code]\nname = "sd72"\nfamily = "hamming"\n[hamming]\ndata_bits = 64\nsecded = true\n',
+    # 18 bytes: frames of three 64-bit words, past the driver's two-word path
+    "secded128": '[code]\nname = "sd137"\nfamily = "hamming"\n[hamming]\ndata_bits = 128\nsecded = true\n',
     "bch15": '[code]\nname = "b15"\nfamily = "bch"\n[bch]\nm = 4\nt = 2\n',
     "bch63": '[code]\nname = "b63"\nfamily = "bch"\n[bch]\nm = 6\nt = 2\n',
     "rs4": rs_toml("rs4", 4, 2),
@@ -133,6 +135,17 @@ def test_secded_72_64(specs, address):
     mis, det = syndrome_split(columns, 3, 1)
     cert = certify(specs["secded"], address, max_weight=3)
     assert rows(cert) == {1: (72, 72, 0, 0, 0), 2: (2556, 0, 2556, 0, 0), 3: (59640, 0, det, mis, 0)}
+    assert mis > 0 and det > 0
+
+
+def test_secded_137_128(specs, address):
+    # the same statements for (137,128), whose 18-byte frames take the driver's other path (flips, not a
+    # two-word image of the frame)
+    model = build(specmod.load(specs["secded128"]))
+    columns = np.array([int("".join(map(str, model.H[:, j])), 2) for j in range(137)])
+    mis, det = syndrome_split(columns, 3, 1)
+    cert = certify(specs["secded128"], address, max_weight=3)
+    assert rows(cert) == {1: (137, 137, 0, 0, 0), 2: (9316, 0, 9316, 0, 0), 3: (419220, 0, det, mis, 0)}
     assert mis > 0 and det > 0
 
 
@@ -281,16 +294,16 @@ def test_scheduler_and_worker_started_by_hand(specs, tmp_path, monkeypatch, caps
                     proc.wait()
 
 
-def break_decoder(monkeypatch, before: str, after: str) -> None:
-    """h74_decode wrapped: `before` runs on the received word, `after` once the real decoder returned rc."""
+def break_decoder(monkeypatch, before: str, after: str, name: str = "h74") -> None:
+    """<name>_decode wrapped: `before` runs on the received word, `after` once the real decoder returned rc."""
     render = emit.render
 
     def broken(model, env=None):
         files = dict(render(model, env))
-        c = files["h74.c"].replace("int h74_decode(", "static int h74_decode_real(", 1)
-        files["h74.c"] = c + ("int h74_decode(uint8_t *data, size_t data_len, uint8_t *parity)\n"
-                              f"{{\n    int rc;\n    {before}\n    rc = h74_decode_real(data, data_len, parity);\n"
-                              f"    {after}\n}}\n")
+        c = files[f"{name}.c"].replace(f"int {name}_decode(", f"static int {name}_decode_real(", 1)
+        files[f"{name}.c"] = c + (f"int {name}_decode(uint8_t *data, size_t data_len, uint8_t *parity)\n"
+                                  f"{{\n    int rc;\n    {before}\n    rc = {name}_decode_real(data, data_len, parity);\n"
+                                  f"    {after}\n}}\n")
         return files
 
     monkeypatch.setattr(emit, "render", broken)
@@ -311,6 +324,17 @@ def test_a_wrong_decoder_is_caught(specs, address, monkeypatch, capsys, after, w
     assert f"{wrong} patterns decoded wrongly" in out
     for line in first_lines:                   # units: 4 data bits, then 3 parity bits
         assert f"! wrong: {line}\n" in out
+
+
+@pytest.mark.parametrize("after, wrong", [
+    ("return rc == 1 ? 2 : rc;", 137),         # every single error's return breaks the contract
+    ("parity[2] = 0;\n    return rc;", 137 + 9316),   # a write into the frame's padding on every call
+])
+def test_a_wrong_decoder_is_caught_in_longer_frames(specs, address, monkeypatch, after, wrong):
+    """The same catches on (137,128)'s 18-byte frames, which the driver handles by flips."""
+    break_decoder(monkeypatch, "", after, name="sd137")
+    cert = certify(specs["secded128"], address, max_weight=2)
+    assert cert.wrong == wrong
 
 
 def test_a_stray_write_is_named_for_its_patterns_alone(specs, address, monkeypatch):
@@ -364,6 +388,7 @@ int main(void)
 
 @pytest.mark.parametrize("key, data_len, weight, count", [
     ("secded", 8, 3, None),                    # every weight-3 pattern: detected and miscorrected ones
+    ("secded128", 16, 2, None),                # frames of three 64-bit words: flips, not images
     ("rs4", 2, 2, 20000),                      # symbols: masks that carry a value, not a bit
 ])
 def test_a_big_endian_core_counts_the_same(specs, key, data_len, weight, count):
