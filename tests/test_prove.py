@@ -34,6 +34,7 @@ CODES = {
     "bch15": '[code]\nname = "b15"\nfamily = "bch"\n[bch]\nm = 4\nt = 2\n',
     "bch63": '[code]\nname = "b63"\nfamily = "bch"\n[bch]\nm = 6\nt = 2\n',
     "rs4": rs_toml("rs4", 4, 2),
+    "rs18": rs_toml("rs18", 18, 16),          # 18-byte frames: the flips path, with symbol values
 }
 
 
@@ -184,6 +185,26 @@ def test_reed_solomon_every_symbol_value(specs, address):
     assert rows(cert) == {1: (4 * 255, 4 * 255, 0, 0, 0), 2: (6 * 255 ** 2, 0, 6 * 255 ** 2 - mis, mis, 0)}
     assert 0 < mis < 6 * 255 ** 2
     assert "every one of the 255 non-zero error values" in cert.table()
+
+
+def test_symbol_miscorrections_in_longer_frames(specs):
+    # RS(18,16) over GF(256), x^8+x^4+x^3+x^2+1, roots alpha^0, alpha^1, symbol j the coefficient of x^(17 - j):
+    # one shard, every value pair on symbols 0 and 1, against syndromes computed here.  (S0, S1) is a
+    # bijection of the two values, so 16 * 255 pairs have the syndrome of a single error at one of the
+    # other 16 positions and are miscorrected (common practice, no source); the rest are detected.
+    exp = gf_exp(8, 0x11D)
+    log = {x: i for i, x in enumerate(exp)}
+    job = prove_driver.make_job(build(specmod.load(specs["rs18"])), 16)
+    count = 255 ** 2
+    mis = 0
+    for rank in range(count):
+        (a, va), (b, vb) = job.pattern(2, rank)
+        s0 = va ^ vb
+        s1 = exp[(log[va] + 17 - a) % 255] ^ exp[(log[vb] + 17 - b) % 255]
+        mis += s0 != 0 and s1 != 0 and (log[s1] - log[s0]) % 255 <= 17
+    counts, failed = prove_driver.runner(job).run(2, 0, count)
+    assert mis == 16 * 255
+    assert counts == (0, count - mis, mis, 0) and failed == ()
 
 
 def test_one_worker_and_two_give_the_same_totals(specs, address, tmp_path):
