@@ -188,10 +188,11 @@ def test_reed_solomon_every_symbol_value(specs, address):
 
 
 def test_symbol_miscorrections_in_longer_frames(specs):
-    # RS(18,16) over GF(256), x^8+x^4+x^3+x^2+1, roots alpha^0, alpha^1, symbol j the coefficient of x^(17 - j):
-    # one shard, every value pair on symbols 0 and 1, against syndromes computed here.  (S0, S1) is a
-    # bijection of the two values, so 16 * 255 pairs have the syndrome of a single error at one of the
-    # other 16 positions and are miscorrected (common practice, no source); the rest are detected.
+    # RS(18,16) over GF(256), x^8+x^4+x^3+x^2+1, roots alpha^0, alpha^1, symbol j the coefficient of
+    # x^(17 - j); 18-byte frames take the driver's flips path.  One shard, every value pair on symbols 0
+    # and 1, against syndromes computed here.  (S0, S1) is a bijection of the two values, so 16 * 255 pairs
+    # have the syndrome of a single error at one of the other 16 positions and are miscorrected (common
+    # practice, no source); the rest are detected.
     exp = gf_exp(8, 0x11D)
     log = {x: i for i, x in enumerate(exp)}
     job = prove_driver.make_job(build(specmod.load(specs["rs18"])), 16)
@@ -323,8 +324,8 @@ def break_decoder(monkeypatch, before: str, after: str, name: str = "h74") -> No
         files = dict(render(model, env))
         c = files[f"{name}.c"].replace(f"int {name}_decode(", f"static int {name}_decode_real(", 1)
         files[f"{name}.c"] = c + (f"int {name}_decode(uint8_t *data, size_t data_len, uint8_t *parity)\n"
-                                  f"{{\n    int rc;\n    {before}\n    rc = {name}_decode_real(data, data_len, parity);\n"
-                                  f"    {after}\n}}\n")
+                                  f"{{\n    int rc;\n    {before}\n"
+                                  f"    rc = {name}_decode_real(data, data_len, parity);\n    {after}\n}}\n")
         return files
 
     monkeypatch.setattr(emit, "render", broken)
