@@ -232,13 +232,15 @@ def step_context(block_remainder, words: int, unrolled: bool, budget: int) -> di
     }
 
 
-def field_context(field: Field, exp_doubled: bool) -> dict:
+def field_context(field: Field, exp_doubled: bool, zero_log: int | None = None) -> dict:
     """What templates/_gf_decode.j2 prints for the decoders' arithmetic in `field` (BCH and Reed-Solomon alike).
 
     Elements are the smallest uintN_t that holds m bits; `uint` is an unsigned type wide enough for a sum of
     two logs (< 2 (2^m - 1)) and for the shift-and-add product's intermediate (< 2^(m+1)): plain `unsigned`
     (at least 16 bits) up to m = 8, else uint32_t.  `exp_doubled`: the exp table runs on to 2 (2^m - 1)
-    entries, so a sum of two logs needs no reduction before the look-up.
+    entries, so a sum of two logs needs no reduction before the look-up.  `zero_log`: log[0] holds this
+    value (at least 2 (2^m - 1)) and exp is 0 from there to 2 zero_log, so products and prepared multipliers
+    need no test for zero; the logs are then uint16_t.
     """
     bits = 8 if field.m <= 8 else 16
     return {
@@ -250,4 +252,6 @@ def field_context(field: Field, exp_doubled: bool) -> dict:
         "top": 1 << (field.m - 1),                      # x^(m-1): the bit that overflows on doubling
         "low": field.poly ^ (1 << field.m),             # alpha^m = the field polynomial without x^m
         "exp_doubled": exp_doubled,
+        "zero_log": zero_log,
+        "log_bits": 16 if zero_log is not None else bits,
     }

@@ -34,7 +34,10 @@ from .base import ERR_ARG, ERR_LENGTH, ERR_UNCORRECTABLE, CodeModel, Properties
 TABLE = "reed-solomon"
 SYMBOL_BITS = 8
 ORDER = (1 << SYMBOL_BITS) - 1          # 255: the multiplicative group order
-STEP_TABLE_BYTES = 14336                 # encoder tables at most: with exp and log the fast profile stays within 16 KiB
+FAST_TABLE_BYTES = 16384                 # the fast profile's tables at most; the encoder gets what the decoder leaves
+CHIEN_ROWS = 16                          # fast Chien search: multiplier rows for beta^-1 .. beta^-16 at most
+CHIEN_BLOCK = {"fast": 16, "small": 4}  # Chien positions per pass over the terms
+LOG_OF_ZERO = 2 * 255                   # fast profile: log[0]; exp is 0 from there on, so products need no tests
 UNROLL_WORDS = 8                        # up to this many encoder words live in scalar locals (registers)
 ZERO_LOG = 255                          # marks a zero coefficient in log-domain tables (logs are 0..254)
 
@@ -91,8 +94,12 @@ class ReedSolomon(CodeModel):
     def properties(self) -> Properties:
         return Properties(n=self.n, k=self.k, t=self.t, d=self.nroots + 1, unit_bits=SYMBOL_BITS,
                           data_bytes=self.k, parity_bytes=self.nroots,
-                          table_bytes=sum(len(v) * (4 if name == "step" else 1)
-                                          for name, v in self.c_tables().items()))
+                          table_bytes=sum(len(v) * self.table_entry_bytes(name) for name, v in self.c_tables().items()))
+
+    def table_entry_bytes(self, name: str) -> int:
+        """Bytes of one entry of the C table `name`: the encoder's words, the fast profile's logs (up to
+        LOG_OF_ZERO), bytes otherwise."""
+        return 4 if name == "step" else 2 if name == "log" and self.spec.profile == "fast" else 1
 
     def data_lengths(self) -> range:
         return range(1, self.k + 1)
@@ -269,8 +276,8 @@ class ReedSolomon(CodeModel):
 
     # -- rendering -------------------------------------------------------------------------------------------
     def c_tables(self) -> dict[str, list[int]]:
-        """The constant tables of the generated C for the spec's profile, by C name suffix: step is
-        uint32_t, every other table uint8_t."""
+        """The constant tables of the generated C for the spec's profile, by C name suffix (entry sizes:
+        table_entry_bytes)."""
         if self._tables is None:
             self._tables = self._build_tables()
         return self._tables
@@ -279,21 +286,35 @@ class ReedSolomon(CodeModel):
         prof = self.spec.profile
         if prof == "tiny":
             return {"gen": self.generator[1:]}
-        tables = {}
-        if prof == "fast":
-            tables["step"] = self.step()["table"]
-            tables["exp"] = self._exp[:2 * ORDER]
-        else:
-            tables["gen_log"] = [ZERO_LOG if lg is None else lg for lg in self._gen_logs[1:]]
-            tables["exp"] = self._exp[:ORDER]
-        tables["log"] = [0] + self._log[1:]
-        return tables
+        if prof == "small":
+            return {"gen_log": [ZERO_LOG if lg is None else lg for lg in self._gen_logs[1:]],
+                    "exp": self._exp[:ORDER], "log": [0] + self._log[1:]}
+        decoder = self._fast_decoder_tables()
+        return {"step": self.step()["table"], **decoder}
+
+    def _fast_decoder_tables(self) -> dict[str, list[int]]:
+        """The fast profile's decoder tables: exp[i] = alpha^i for i < 2 * 255 and 0 from LOG_OF_ZERO on (a
+        sum of two logs, or of log[0], needs neither reduction nor a test); log, with log[0] = LOG_OF_ZERO;
+        chien_mul row r - 1: x * beta^-r for every x, r = 1 .. chien_rows."""
+        chien = []
+        for r in range(1, self.chien_rows + 1):
+            lg = (-self.root_step * r) % ORDER
+            chien += [0] + [self._exp[self._log[x] + lg] for x in range(1, ORDER + 1)]
+        return {"exp": self._exp[:2 * ORDER] + [0] * (2 * LOG_OF_ZERO - 2 * ORDER + 1),
+                "log": [LOG_OF_ZERO] + self._log[1:], "chien_mul": chien}
+
+    @property
+    def chien_rows(self) -> int:
+        """Fast profile: terms of degree up to this many are stepped by a table row in the Chien search."""
+        return min(self.nroots, CHIEN_ROWS)
 
     def step(self) -> dict:
-        """The fast profile's word-wide encoder (templates/_gf.j2), built once."""
+        """The fast profile's word-wide encoder (templates/_gf.j2), built once, in the bytes the decoder's
+        tables leave of FAST_TABLE_BYTES."""
         if self._step is None:
+            decoder = sum(len(v) * self.table_entry_bytes(name) for name, v in self._fast_decoder_tables().items())
             self._step = step_context(self.block_remainder, self.words, self.words <= UNROLL_WORDS,
-                                      STEP_TABLE_BYTES)
+                                      FAST_TABLE_BYTES - decoder)
         return self._step
 
     def block_remainder(self, u: int) -> int:
@@ -316,10 +337,15 @@ class ReedSolomon(CodeModel):
         callees = [
             (4 if self.words <= UNROLL_WORDS else 8) * self.words if self.spec.profile == "fast" else 0,  # remainder()
             r + 1,                                                  # berlekamp(): b
-            4 * self.half_roots if self.spec.profile == "tiny" else 10 * r + 4,  # chien(): terms, steps
+            4 * self.half_roots if self.spec.profile == "tiny" else 4 * r + 2 * self.chien_block,  # chien()
             r,                                                      # forney(): omega
         ]
         return correct + max(callees)
+
+    @property
+    def chien_block(self) -> int:
+        """Chien positions per pass over the locator's terms (profiles with tables)."""
+        return CHIEN_BLOCK.get(self.spec.profile, 0)
 
     @property
     def half_roots(self) -> int:
@@ -336,7 +362,10 @@ class ReedSolomon(CodeModel):
             "call_depth": self.call_depth,
             "t": self.t,
             "field_poly": self.field_poly,
-            "field": field_context(self.gf, exp_doubled=self.spec.profile == "fast"),
+            "field": field_context(self.gf, exp_doubled=self.spec.profile == "fast",
+                                   zero_log=LOG_OF_ZERO if self.spec.profile == "fast" else None),
+            "chien_rows": self.chien_rows if self.spec.profile == "fast" else 0,
+            "chien_block": self.chien_block,
             "first_root": self.first_root,
             "root_step": self.root_step,
             "generator": self.generator,
