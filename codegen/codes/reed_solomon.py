@@ -44,8 +44,8 @@ ZERO_LOG = 255                          # marks a zero coefficient in log-domain
 
 class ReedSolomon(CodeModel):
     template = "reed_solomon"
-    # decode > correct > forney > eval (> mul in the tiny profile)
-    call_depth = 5
+    # decode > correct > forney > beta_pow > pow > mul (tiny; the other profiles are shallower)
+    call_depth = 6
 
     def __init__(self, spec: Spec):
         super().__init__(spec)
@@ -331,13 +331,13 @@ class ReedSolomon(CodeModel):
 
     def stack_array_bytes(self) -> int:
         """Local arrays on the deepest chain: correct() holds remainder, syndromes, Lambda and the
-        corrections (powers, odd parts, values); the largest of its callees' arrays comes on top."""
+        corrections (powers, values); the largest of its callees' arrays comes on top."""
         r = self.nroots
-        correct = 5 * r + (r + 1)                      # rem, synd, where, odd_part, value; lam
+        correct = 4 * r + (r + 1)                      # rem, synd, where, value; lam
         callees = [
             (4 if self.words <= UNROLL_WORDS else 8) * self.words if self.spec.profile == "fast" else 0,  # remainder()
-            r + 1,                                                  # berlekamp(): b
-            4 * self.half_roots if self.spec.profile == "tiny" else 4 * r + 2 * self.chien_block,  # chien()
+            r + 1,                                                  # berlekamp(): B
+            2 * r if self.spec.profile == "tiny" else r + 1,        # chien(): terms (and steps)
             r,                                                      # forney(): omega
         ]
         return correct + max(callees)
@@ -347,17 +347,11 @@ class ReedSolomon(CodeModel):
         """Chien positions per pass over the locator's terms (profiles with tables)."""
         return CHIEN_BLOCK.get(self.spec.profile, 0)
 
-    @property
-    def half_roots(self) -> int:
-        """Room for the odd-degree (or the even-degree, above 0) terms of a locator of degree n - k."""
-        return self.nroots // 2 + 1
-
     def family_context(self) -> dict:
         tables = self.c_tables()
         return {
             "nroots": self.nroots,
             "erasures_max": self.nroots,
-            "half_roots": self.half_roots,
             "words": self.words,
             "call_depth": self.call_depth,
             "t": self.t,
@@ -371,14 +365,10 @@ class ReedSolomon(CodeModel):
             "generator": self.generator,
             "tables": tables,
             "step": self.step() if self.spec.profile == "fast" else None,
-            # log_alpha of beta^-1 (Chien step per degree), of beta^first_root (Forney), and the
-            # field elements the tiny profile starts from
+            # log_alpha of beta^-1 (the Chien step per degree), and the tiny profile's beta and beta^-1
             "beta_inv_log": (ORDER - self.root_step) % ORDER,
-            "fr_log": (self.root_step * self.first_root) % ORDER,
             "beta": self._exp[self.root_step],
             "beta_inv": self._exp[(ORDER - self.root_step) % ORDER],
-            "beta_fr": self._exp[(self.root_step * self.first_root) % ORDER],
-            "beta_fr_inv": self._exp[(ORDER - self.root_step * self.first_root % ORDER) % ORDER],
             "zero_log": ZERO_LOG,
             "order": ORDER,
         }
