@@ -31,8 +31,8 @@ extern "C" {
  *
  * Profile fast: encoder with one product table per generator coefficient,
  * decoder in the log domain (exp table of 510 entries, log table of 256).
- * Constant tables: 15102 bytes.  Worst-case stack: 997 bytes
- * (32-symbol local arrays plus at most 5 call levels).
+ * Constant tables: 13821 bytes.  Worst-case stack: 770 bytes
+ * (32-symbol local arrays plus at most 6 call levels).
  */
 #define ARCHIVE_BLOCK_N                 255u         /* codeword length of the largest block, symbols */
 #define ARCHIVE_BLOCK_K                 223u         /* data length of the largest block, symbols */
@@ -40,8 +40,8 @@ extern "C" {
 #define ARCHIVE_BLOCK_DATA_BYTES        223u         /* largest data block, bytes */
 #define ARCHIVE_BLOCK_PARITY_BYTES      32u          /* check bytes for the largest block */
 #define ARCHIVE_BLOCK_CORRECTABLE       16           /* = _T, as an int like _decode's return */
-#define ARCHIVE_BLOCK_TABLE_BYTES       15102u       /* constant table bytes in the .c */
-#define ARCHIVE_BLOCK_STACK_BYTES       997u         /* worst-case stack bound, bytes */
+#define ARCHIVE_BLOCK_TABLE_BYTES       13821u       /* constant table bytes in the .c */
+#define ARCHIVE_BLOCK_STACK_BYTES       770u         /* worst-case stack bound, bytes */
 #define ARCHIVE_BLOCK_ERR_UNCORRECTABLE (-1)         /* errors found that the code cannot correct */
 #define ARCHIVE_BLOCK_ERR_LENGTH        (-2)         /* a data_len the code does not take */
 #define ARCHIVE_BLOCK_ERR_ARG           (-3)         /* a NULL buffer or an invalid argument */

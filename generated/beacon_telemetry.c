@@ -38,16 +38,20 @@ typedef unsigned beacon_telemetry_uint_t;   /* holds a sum of two logs, and a pr
 
 
 #define BEACON_TELEMETRY_NROOTS        8u   /* parity symbols n - k: the generator's degree */
+#define BEACON_TELEMETRY_FIRST_ROOT    1u   /* g's roots are beta^FIRST_ROOT .. beta^(FIRST_ROOT + NROOTS - 1) */
+#define BEACON_TELEMETRY_BETA          0x02u   /* beta = alpha^1 */
 #define BEACON_TELEMETRY_ZERO_LOG      255u  /* marks a zero coefficient among logs (which are 0..254) */
 #define BEACON_TELEMETRY_BETA_LOG      1u   /* log_alpha of beta */
 #define BEACON_TELEMETRY_BETA_INV_LOG  254u  /* log_alpha of beta^-1 */
-#define BEACON_TELEMETRY_FR_LOG        1u   /* log_alpha of beta^first_root */
+#define BEACON_TELEMETRY_CHIEN_BLOCK   4u   /* Chien positions per pass over the terms */
+#define BEACON_TELEMETRY_CHIEN_ROWS    0u   /* Chien search: terms up to this degree step by a table row */
 
 /* log_alpha of the generator's coefficients g_1 .. g_8 (the leading 1 left out);
  * BEACON_TELEMETRY_ZERO_LOG marks a zero coefficient.  Computed by the bitmend model. */
 BEACON_TELEMETRY_TABLE_ATTR static const uint8_t beacon_telemetry_gen_log[8] = {
     0xB0u, 0xF0u, 0xD3u, 0xFDu, 0xDCu, 0x03u, 0xCBu, 0x24u
 };
+
 
 /* exp[i] = alpha^i for 0 <= i < 255. */
 BEACON_TELEMETRY_TABLE_ATTR static const uint8_t beacon_telemetry_exp[255] = {
@@ -69,6 +73,7 @@ BEACON_TELEMETRY_TABLE_ATTR static const uint8_t beacon_telemetry_exp[255] = {
     0x2Cu, 0x58u, 0xB0u, 0x7Du, 0xFAu, 0xE9u, 0xCFu, 0x83u, 0x1Bu, 0x36u, 0x6Cu, 0xD8u, 0xADu, 0x47u, 0x8Eu
 };
 
+
 /* log[x] = i with alpha^i = x, for x = 1..255 (log[0] is unused and 0). */
 BEACON_TELEMETRY_TABLE_ATTR static const uint8_t beacon_telemetry_log[256] = {
     0x00u, 0x00u, 0x01u, 0x19u, 0x02u, 0x32u, 0x1Au, 0xC6u, 0x03u, 0xDFu, 0x33u, 0xEEu, 0x1Bu, 0x68u, 0xC7u, 0x4Bu,
@@ -88,6 +93,7 @@ BEACON_TELEMETRY_TABLE_ATTR static const uint8_t beacon_telemetry_log[256] = {
     0xCBu, 0x59u, 0x5Fu, 0xB0u, 0x9Cu, 0xA9u, 0xA0u, 0x51u, 0x0Bu, 0xF5u, 0x16u, 0xEBu, 0x7Au, 0x75u, 0x2Cu, 0xD7u,
     0x4Fu, 0xAEu, 0xD5u, 0xE9u, 0xE6u, 0xE7u, 0xADu, 0xE8u, 0x74u, 0xD6u, 0xF4u, 0xEAu, 0xA8u, 0x50u, 0x58u, 0xAFu
 };
+
 
 /* -- GF(2^8) arithmetic ------------------------------------------------------------------------------ */
 
@@ -136,7 +142,7 @@ static beacon_telemetry_gf_t beacon_telemetry_scale(beacon_telemetry_gf_t a, bea
 /* beta^p */
 static uint8_t beacon_telemetry_beta_pow(unsigned p)
 {
-    return beacon_telemetry_exp_of(beacon_telemetry_mod_order(p * BEACON_TELEMETRY_BETA_LOG));
+    return beacon_telemetry_exp_of(beacon_telemetry_mod_order(beacon_telemetry_mod_order(p) * BEACON_TELEMETRY_BETA_LOG));
 }
 
 /* -- encoder ----------------------------------------------------------------------------------------- */
@@ -212,235 +218,240 @@ int beacon_telemetry_check(const uint8_t *data, size_t data_len, const uint8_t *
 
 /* -- decoder ----------------------------------------------------------------------------------------- */
 
-/* S_i = R(beta^(first_root + i)), R = the received word's remainder mod g(x) (its syndromes equal the
- * word's, since g vanishes at every root): the sum over the remainder's non-zero symbols r of degree d of
- * r * beta^(d (first_root + i)).  Logs only: per symbol a start log(r) + d log(beta^first_root) and a step
- * d log(beta), both carried from d to d + 1 by one addition mod 255. */
+/* S_i = R(beta^(first_root + i)) by Horner's rule, R = the received word's remainder mod g(x) (its
+ * syndromes equal the word's, since g vanishes at every root); rem[0] is R's highest-degree symbol.
+ * Four symbols per turn of the loop. */
 static void beacon_telemetry_syndromes(const uint8_t rem[BEACON_TELEMETRY_NROOTS], uint8_t synd[BEACON_TELEMETRY_NROOTS])
 {
-    unsigned start = 0;
-    unsigned step = 0;
-    unsigned e;
+    beacon_telemetry_uint_t f;
     unsigned i;
     unsigned j;
+    uint8_t x = beacon_telemetry_beta_pow(BEACON_TELEMETRY_FIRST_ROOT);
+    uint8_t acc;
 
     for (i = 0; i < BEACON_TELEMETRY_NROOTS; i++) {
-        synd[i] = 0u;
-    }
-    for (j = BEACON_TELEMETRY_NROOTS; j > 0u; j--) {            /* rem[j - 1] has degree d = NROOTS - j */
-        if (rem[j - 1u] != 0u) {
-            e = (unsigned)BEACON_TELEMETRY_LOG(rem[j - 1u]) + start;
-            e = e >= BEACON_TELEMETRY_ORDER ? e - BEACON_TELEMETRY_ORDER : e;
-            for (i = 0; i < BEACON_TELEMETRY_NROOTS; i++) {
-                synd[i] = (uint8_t)(synd[i] ^ beacon_telemetry_exp_of(e));
-                e += step;
-                e = e >= BEACON_TELEMETRY_ORDER ? e - BEACON_TELEMETRY_ORDER : e;
-            }
+        f = beacon_telemetry_factor(x);
+        acc = rem[0];
+        for (j = 1; j + 3u < BEACON_TELEMETRY_NROOTS; j += 4u) {
+            acc = (uint8_t)(beacon_telemetry_scale(acc, f) ^ rem[j]);
+            acc = (uint8_t)(beacon_telemetry_scale(acc, f) ^ rem[j + 1u]);
+            acc = (uint8_t)(beacon_telemetry_scale(acc, f) ^ rem[j + 2u]);
+            acc = (uint8_t)(beacon_telemetry_scale(acc, f) ^ rem[j + 3u]);
         }
-        start += BEACON_TELEMETRY_FR_LOG;
-        start = start >= BEACON_TELEMETRY_ORDER ? start - BEACON_TELEMETRY_ORDER : start;
-        step += BEACON_TELEMETRY_BETA_LOG;
-        step = step >= BEACON_TELEMETRY_ORDER ? step - BEACON_TELEMETRY_ORDER : step;
+        for (; j < BEACON_TELEMETRY_NROOTS; j++) {
+            acc = (uint8_t)(beacon_telemetry_scale(acc, f) ^ rem[j]);
+        }
+        synd[i] = acc;
+        x = beacon_telemetry_mul(x, BEACON_TELEMETRY_BETA);
     }
 }
 
 /* Berlekamp-Massey over S = synd[0 .. BEACON_TELEMETRY_NROOTS), started from the erasure locator in lam (degree `erasures`,
- * lowest degree first, zero above); on return lam is the errata locator Lambda.  Returns the count of errors
+ * lowest degree first, lam[0] = 1, zero above); on return lam is the errata locator Lambda.  Returns the count of errors
  * beyond the erasures, or -1 when no word within the code's reach has these syndromes: when
- * 2 errors + erasures exceeds BEACON_TELEMETRY_NROOTS, or deg Lambda differs from errors + erasures. */
+ * 2 errors + erasures exceeds BEACON_TELEMETRY_NROOTS, or deg Lambda differs from errors + erasures.
+ * B, the locator before the last change of length, is kept as it was with its discrepancy: a step adds
+ * (delta / B's delta) x^shift B, shift being the steps since B was kept.  Lambda and B swap arrays when
+ * the length changes; each array is zero above its degree bound (ld, bd). */
 static int beacon_telemetry_berlekamp(const beacon_telemetry_gf_t synd[BEACON_TELEMETRY_NROOTS], beacon_telemetry_gf_t lam[BEACON_TELEMETRY_NROOTS + 1u],
                         unsigned erasures)
 {
-    beacon_telemetry_gf_t b[BEACON_TELEMETRY_NROOTS + 1u];
+    beacon_telemetry_gf_t other[BEACON_TELEMETRY_NROOTS + 1u];
+    beacon_telemetry_gf_t *cur = lam;        /* Lambda */
+    beacon_telemetry_gf_t *prev = other;     /* B */
+    beacon_telemetry_gf_t *swap;
+    beacon_telemetry_uint_t prev_inv = beacon_telemetry_inv_factor(1u);   /* 1 / B's discrepancy, prepared */
+    beacon_telemetry_gf_t delta;
     unsigned errors = 0;
-    unsigned ld = erasures;            /* lam[j] == 0 for j > ld */
-    unsigned bd = erasures;            /* b[j] == 0 for j > bd */
+    unsigned ld = erasures;            /* cur[j] == 0 for j > ld */
+    unsigned bd = erasures;            /* prev[j] == 0 for j > bd */
+    unsigned shift = 1;
     unsigned top;
+    unsigned last;
     unsigned r;
     unsigned j;
     unsigned k;                        /* loops count k up, j = top - k down: avr-gcc 5 -O3 misreads a */
                                        /* plain downward loop as out of bounds (-Warray-bounds) */
-    beacon_telemetry_uint_t fd;
-    beacon_telemetry_uint_t fi;
-    beacon_telemetry_gf_t delta;
-    beacon_telemetry_gf_t old;
+    beacon_telemetry_uint_t f;
 
     for (j = 0; j <= BEACON_TELEMETRY_NROOTS; j++) {
-        b[j] = lam[j];
+        other[j] = lam[j];
     }
     for (r = erasures; r < BEACON_TELEMETRY_NROOTS; r++) {
-        delta = 0u;
-        for (j = 0; j <= ld && j <= r; j++) {
-            delta = (beacon_telemetry_gf_t)(delta ^ beacon_telemetry_mul(lam[j], synd[r - j]));
-        }
-        top = ld > bd + 1u ? ld : bd + 1u;
-        if (top > BEACON_TELEMETRY_NROOTS) {
-            top = BEACON_TELEMETRY_NROOTS;
+        delta = synd[r];               /* cur[0] = 1: no step changes the constant term */
+        last = ld < r ? ld : r;
+        for (j = 1; j <= last; j++) {
+            delta = (beacon_telemetry_gf_t)(delta ^ beacon_telemetry_mul(cur[j], synd[r - j]));
         }
         if (delta == 0u) {
-            /* b <- x b */
-            for (k = 0; k < top; k++) {
-                j = top - k;
-                b[j] = b[j - 1u];
-            }
-            b[0] = 0u;
-            bd = top;
-        } else if (2u * errors <= r - erasures) {
-            /* lam <- lam - delta x b and b <- lam / delta, from the old lam; the register grows */
-            fd = beacon_telemetry_factor(delta);
-            fi = beacon_telemetry_inv_factor(delta);
-            for (k = 0; k < top; k++) {
-                j = top - k;
-                old = lam[j];
-                lam[j] = (beacon_telemetry_gf_t)(old ^ beacon_telemetry_scale(b[j - 1u], fd));
-                b[j] = beacon_telemetry_scale(old, fi);
-            }
-            b[0] = beacon_telemetry_scale(lam[0], fi);
-            bd = ld;
-            ld = top;
+            shift++;
+            continue;
+        }
+        f = beacon_telemetry_factor(beacon_telemetry_scale(delta, prev_inv));
+        top = shift + bd > ld ? shift + bd : ld;
+        if (top > BEACON_TELEMETRY_NROOTS) {
+            top = BEACON_TELEMETRY_NROOTS;         /* a bound on the arrays; the length checks below keep top within it */
+        }
+        if (2u * errors <= r - erasures) {
+            /* the length grows: Lambda - f x^shift B goes into B's array, downwards (each read is below the
+             * writes so far), and the old Lambda becomes B */
             errors = r + 1u - errors - erasures;
             if (2u * errors + erasures > BEACON_TELEMETRY_NROOTS) {
                 return -1;
             }
-        } else {
-            /* lam <- lam - delta x b, b <- x b */
-            fd = beacon_telemetry_factor(delta);
-            for (k = 0; k < top; k++) {
+            for (k = 0; k <= top - shift; k++) {
                 j = top - k;
-                lam[j] = (beacon_telemetry_gf_t)(lam[j] ^ beacon_telemetry_scale(b[j - 1u], fd));
-                b[j] = b[j - 1u];
+                prev[j] = (beacon_telemetry_gf_t)(cur[j] ^ beacon_telemetry_scale(prev[j - shift], f));
             }
-            b[0] = 0u;
-            bd = top;
-            ld = top;
+            for (j = 0; j < shift; j++) {
+                prev[j] = cur[j];
+            }
+            swap = cur;
+            cur = prev;
+            prev = swap;
+            bd = ld;
+            prev_inv = beacon_telemetry_inv_factor(delta);
+            shift = 1;
+        } else {
+            for (j = shift; j <= top; j++) {
+                cur[j] = (beacon_telemetry_gf_t)(cur[j] ^ beacon_telemetry_scale(prev[j - shift], f));
+            }
+            shift++;
         }
+        ld = top;
     }
-    while (ld > 0u && lam[ld] == 0u) {
+    while (ld > 0u && cur[ld] == 0u) {
         ld--;
+    }
+    if (cur != lam) {
+        for (j = 0; j <= BEACON_TELEMETRY_NROOTS; j++) {
+            lam[j] = cur[j];
+        }
     }
     return ld == errors + erasures ? (int)errors : -1;
 }
 
 /* Chien search over the transmitted positions only: power p = 0 .. total-1 (p = 0 is the last parity
- * symbol), x = beta^-p.  Records p and the value there of Lambda's odd-degree part (for Forney) of each
- * root; stops once `deg` roots are found. */
-static unsigned beacon_telemetry_chien(const uint8_t lam[BEACON_TELEMETRY_NROOTS + 1u], unsigned deg, unsigned total,
-                              uint8_t where[BEACON_TELEMETRY_NROOTS], uint8_t odd_part[BEACON_TELEMETRY_NROOTS])
+ * symbol), x = beta^-p.  Records each root's p in where[] and returns their count; stops once `deg` roots
+ * are found. */
+/* A root found `back` positions before x: divides (1 - X y), X = the root's inverse, out of Q (degree
+ * left >= 1, held as the terms val[i] = Q_i x^i).  The quotient's terms are q_i = val_i + X x q_(i-1),
+ * X x = beta^-back.  Returns its degree. */
+static unsigned beacon_telemetry_deflate(uint8_t val[BEACON_TELEMETRY_NROOTS + 1u], unsigned left, unsigned back)
 {
-    uint16_t lg[BEACON_TELEMETRY_NROOTS];       /* log of the term lam_i x^i, each non-zero lam_i (i >= 1), odd i first */
-    uint16_t st[4][BEACON_TELEMETRY_NROOTS];    /* st[k]: its change over k + 1 positions, log of beta^-(k+1)i */
-    uint8_t sum[4];
-    unsigned nt = 0;
-    unsigned no = 0;
-    unsigned found = 0;
-    unsigned first;
+    beacon_telemetry_uint_t f = beacon_telemetry_mod_order(back * BEACON_TELEMETRY_BETA_INV_LOG);
     unsigned i;
-    unsigned k;
+    uint8_t q = val[0];
+
+    for (i = 1; i < left; i++) {
+        q = (uint8_t)(val[i] ^ beacon_telemetry_scale(q, f));
+        val[i] = q;
+    }
+    val[left] = 0u;
+    return left - 1u;
+}
+
+/* The positions go BEACON_TELEMETRY_CHIEN_BLOCK at a time.  Each term Q_i x^i is kept as a value and stepped to the
+ * next position by a product with beta^-i: by logs.  Q is Lambda with the roots found so far divided out (deflate), so the
+ * terms get fewer as the search goes. */
+static unsigned beacon_telemetry_chien(const uint8_t lam[BEACON_TELEMETRY_NROOTS + 1u], unsigned deg, unsigned total,
+                              uint8_t where[BEACON_TELEMETRY_NROOTS])
+{
+    uint8_t val[BEACON_TELEMETRY_NROOTS + 1u];  /* val[i] = Q_i x^i at the block's first position; Q_0 = 1 */
+    unsigned left = deg;               /* deg Q: the roots not found yet */
+    unsigned i;
     unsigned p;
-    unsigned v;
+    beacon_telemetry_uint_t f;
+    uint8_t v;
     uint8_t s0;
     uint8_t s1;
     uint8_t s2;
     uint8_t s3;
-    uint8_t odd;
 
-    for (i = 0; i < BEACON_TELEMETRY_NROOTS; i++) {
-        lg[i] = 0u;                    /* only the first nt are used; set all for the compiler's sake */
+    for (i = 0; i <= BEACON_TELEMETRY_NROOTS; i++) {
+        val[i] = i <= deg ? lam[i] : 0u;
     }
-    for (first = 1; first <= 2u; first++) {
-        for (i = first; i <= deg; i += 2u) {
-            if (lam[i] != 0u) {
-                lg[nt] = BEACON_TELEMETRY_LOG(lam[i]);
-                for (k = 0; k < 4u; k++) {
-                    st[k][nt] = (uint16_t)beacon_telemetry_mod_order((k + 1u) * beacon_telemetry_mod_order(i * BEACON_TELEMETRY_BETA_INV_LOG));
-                }
-                nt++;
-            }
+    for (p = 0; p < total && left > 0u; p += BEACON_TELEMETRY_CHIEN_BLOCK) {
+        s0 = val[0];
+        s1 = val[0];
+        s2 = val[0];
+        s3 = val[0];
+        /* each term over the block, unrolled: add its value in, step it to the next position */
+        for (i = BEACON_TELEMETRY_CHIEN_ROWS + 1u; i <= left; i++) {
+            f = beacon_telemetry_mod_order(i * BEACON_TELEMETRY_BETA_INV_LOG);
+            v = val[i];
+            s0 ^= v;
+            v = beacon_telemetry_scale(v, f);
+            s1 ^= v;
+            v = beacon_telemetry_scale(v, f);
+            s2 ^= v;
+            v = beacon_telemetry_scale(v, f);
+            s3 ^= v;
+            v = beacon_telemetry_scale(v, f);
+            val[i] = v;
         }
-        if (first == 1u) {
-            no = nt;
+        /* a root at p + b (transmitted, and while roots are left: a polynomial has no more roots than its degree) */
+        if (s0 == 0u && p + 0u < total && left > 0u) {
+            where[deg - left] = (uint8_t)(p + 0u);
+            left = beacon_telemetry_deflate(val, left, 4u);
         }
-    }
-    /* four positions per pass over the terms: p .. p + 3 */
-    for (p = 0; p < total; p += 4u) {
-        s0 = lam[0];
-        s1 = lam[0];
-        s2 = lam[0];
-        s3 = lam[0];
-        for (i = 0; i < nt; i++) {
-            v = lg[i];
-            s0 ^= beacon_telemetry_exp_of(v);
-            s1 ^= beacon_telemetry_exp_of(v + st[0][i]);
-            s2 ^= beacon_telemetry_exp_of(v + st[1][i]);
-            s3 ^= beacon_telemetry_exp_of(v + st[2][i]);
-            v += st[3][i];
-            lg[i] = (uint16_t)(v >= BEACON_TELEMETRY_ORDER ? v - BEACON_TELEMETRY_ORDER : v);
+        if (s1 == 0u && p + 1u < total && left > 0u) {
+            where[deg - left] = (uint8_t)(p + 1u);
+            left = beacon_telemetry_deflate(val, left, 3u);
         }
-        if ((s0 != 0u && s1 != 0u && s2 != 0u && s3 != 0u)) {
-            continue;
+        if (s2 == 0u && p + 2u < total && left > 0u) {
+            where[deg - left] = (uint8_t)(p + 2u);
+            left = beacon_telemetry_deflate(val, left, 2u);
         }
-        sum[0] = s0;
-        sum[1] = s1;
-        sum[2] = s2;
-        sum[3] = s3;
-        for (k = 0; k < 4u; k++) {
-            if (sum[k] != 0u || p + k >= total) {
-                continue;
-            }
-            /* a root at p + k: the odd terms' values there, 4 - k positions back from where they stand */
-            odd = 0u;
-            for (i = 0; i < no; i++) {
-                odd ^= beacon_telemetry_exp_of((unsigned)lg[i] + BEACON_TELEMETRY_ORDER - st[3u - k][i]);
-            }
-            where[found] = (uint8_t)(p + k);
-            odd_part[found] = odd;
-            found++;
-            if (found == deg) {
-                return found;
-            }
+        if (s3 == 0u && p + 3u < total && left > 0u) {
+            where[deg - left] = (uint8_t)(p + 3u);
+            left = beacon_telemetry_deflate(val, left, 1u);
         }
     }
-    return found;
+    return deg - left;
 }
 
 /* Forney: the value at X = beta^p is X^-first_root * Omega(X^-1) / odd(X^-1), where Omega = S * Lambda
- * mod x^8 (its terms below deg Lambda: the rest vanish for a decodable word) and odd(X^-1) * X =
- * Lambda'(X^-1).  Fills value[0..deg). */
+ * mod x^8 (its terms below deg Lambda: the rest vanish for a decodable word) and odd is Lambda's
+ * odd-degree part (odd(X^-1) * X = Lambda'(X^-1), non-zero at a simple root).  Fills value[0..deg). */
 static void beacon_telemetry_forney(const uint8_t synd[BEACON_TELEMETRY_NROOTS], const uint8_t lam[BEACON_TELEMETRY_NROOTS + 1u], unsigned deg,
-                           const uint8_t where[BEACON_TELEMETRY_NROOTS], const uint8_t odd_part[BEACON_TELEMETRY_NROOTS],
-                           uint8_t value[BEACON_TELEMETRY_NROOTS])
+                           const uint8_t where[BEACON_TELEMETRY_NROOTS], uint8_t value[BEACON_TELEMETRY_NROOTS])
 {
     uint8_t om[BEACON_TELEMETRY_NROOTS];
+    beacon_telemetry_uint_t fx;
+    beacon_telemetry_uint_t fx2;
     unsigned i;
     unsigned j;
     unsigned f;
+    unsigned back;
+    uint8_t x;
     uint8_t acc;
-    unsigned xl;
-    unsigned p;
+    uint8_t odd;
 
     for (i = 0; i < deg; i++) {
-        acc = 0u;
-        for (j = 0; j <= i; j++) {
+        acc = synd[i];                 /* lam[0] = 1 */
+        for (j = 1; j <= i; j++) {
             acc ^= beacon_telemetry_mul(lam[j], synd[i - j]);
         }
         om[i] = acc;
     }
     for (f = 0; f < deg; f++) {
-        p = where[f];
-        xl = beacon_telemetry_mod_order(p * BEACON_TELEMETRY_BETA_INV_LOG);
+        back = BEACON_TELEMETRY_ORDER - where[f];     /* X^-1 = beta^back */
+        x = beacon_telemetry_beta_pow(back);
+        fx = beacon_telemetry_factor(x);
+        fx2 = beacon_telemetry_factor(beacon_telemetry_mul(x, x));
         acc = om[deg - 1u];
         for (j = 1; j < deg; j++) {            /* Horner from the top; counting up keeps avr-gcc 5 -O3 quiet */
-            if (acc != 0u) {
-                acc = beacon_telemetry_exp_of((unsigned)BEACON_TELEMETRY_LOG(acc) + xl);
-            }
-            acc = (uint8_t)(acc ^ om[deg - 1u - j]);
+            acc = (uint8_t)(beacon_telemetry_scale(acc, fx) ^ om[deg - 1u - j]);
         }
-        if (acc == 0u) {
-            value[f] = 0u;
-        } else {
-            value[f] = beacon_telemetry_exp_of(beacon_telemetry_mod_order((unsigned)BEACON_TELEMETRY_LOG(acc) + 2u * BEACON_TELEMETRY_ORDER
-                                                     - BEACON_TELEMETRY_LOG(odd_part[f]) - beacon_telemetry_mod_order(p * BEACON_TELEMETRY_FR_LOG)));
+        odd = 0u;                              /* X^-1 * (the odd coefficients by Horner in X^-2) */
+        for (i = deg - 1u + (deg & 1u); i > 1u; i -= 2u) {     /* from the highest odd degree */
+            odd = (uint8_t)(beacon_telemetry_scale(odd, fx2) ^ lam[i]);
         }
+        odd = (uint8_t)(beacon_telemetry_scale(odd, fx2) ^ lam[1]);
+        odd = beacon_telemetry_scale(odd, fx);
+        acc = beacon_telemetry_scale(acc, beacon_telemetry_factor(beacon_telemetry_beta_pow(back * BEACON_TELEMETRY_FIRST_ROOT)));
+        value[f] = beacon_telemetry_scale(acc, beacon_telemetry_inv_factor(odd));
     }
 }
 
@@ -453,7 +464,6 @@ static int beacon_telemetry_correct(uint8_t *data, size_t data_len, uint8_t *par
     uint8_t synd[BEACON_TELEMETRY_NROOTS];
     uint8_t lam[BEACON_TELEMETRY_NROOTS + 1u];
     uint8_t where[BEACON_TELEMETRY_NROOTS];
-    uint8_t odd_part[BEACON_TELEMETRY_NROOTS];
     uint8_t value[BEACON_TELEMETRY_NROOTS];
     unsigned total = (unsigned)data_len + BEACON_TELEMETRY_NROOTS;
     unsigned diff = 0;
@@ -478,9 +488,8 @@ static int beacon_telemetry_correct(uint8_t *data, size_t data_len, uint8_t *par
     /* erasure locator Gamma(x) = prod (1 - X x), X = beta^power of each erased position */
     for (i = 0; i < BEACON_TELEMETRY_NROOTS; i++) {
         lam[i + 1u] = 0u;
-        where[i] = 0u;                 /* where, odd_part and value: set before use; cleared so that */
-        odd_part[i] = 0u;              /* no compiler doubts it */
-        value[i] = 0u;
+        where[i] = 0u;                 /* where and value: set before use; cleared so that */
+        value[i] = 0u;                 /* no compiler doubts it */
     }
     lam[0] = 1u;
     for (i = 0; i < count; i++) {
@@ -495,10 +504,10 @@ static int beacon_telemetry_correct(uint8_t *data, size_t data_len, uint8_t *par
         return BEACON_TELEMETRY_ERR_UNCORRECTABLE;
     }
     deg = count + (unsigned)errors;
-    if (beacon_telemetry_chien(lam, deg, total, where, odd_part) != deg) {
+    if (beacon_telemetry_chien(lam, deg, total, where) != deg) {
         return BEACON_TELEMETRY_ERR_UNCORRECTABLE;   /* too many errors, or one in a shortened-away symbol */
     }
-    beacon_telemetry_forney(synd, lam, deg, where, odd_part, value);
+    beacon_telemetry_forney(synd, lam, deg, where, value);
     for (i = 0; i < deg; i++) {
         if (value[i] == 0u) {
             continue;                  /* an erased symbol that was right */

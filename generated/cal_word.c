@@ -54,6 +54,7 @@ CAL_WORD_TABLE_ATTR static const cal_word_col_t cal_word_nibble[128] = {
     0x4Au, 0x53u, 0x6Cu, 0x75u, 0x1Eu, 0x07u, 0x38u, 0x21u
 };
 
+
 /* Check bits computed from the data. */
 static cal_word_col_t cal_word_data_checks(const uint8_t *data)
 {

@@ -1078,6 +1078,7 @@ FLASH_PAGE_TABLE_ATTR static const flash_page_word_t flash_page_step[4096] = {
     0x10000000UL, 0x33000000UL, 0x56000000UL, 0x75000000UL
 };
 
+
 /* exp[i] = alpha^i in GF(2^13) for 0 <= i < 2^m - 1 (field polynomial 0x201B). */
 #if 8191L * 16L / 8L > PTRDIFF_MAX
 #error "flash_page_exp exceeds PTRDIFF_MAX bytes, the largest array of this (16-bit) target: generate with [c] profile = \"tiny\" (16 table bytes)"
@@ -2108,6 +2109,7 @@ FLASH_PAGE_TABLE_ATTR static const flash_page_gf_t flash_page_exp[8191] = {
     0x147Fu, 0x08E5u, 0x11CAu, 0x038Fu, 0x071Eu, 0x0E3Cu, 0x1C78u, 0x18EBu,
     0x11CDu, 0x0381u, 0x0702u, 0x0E04u, 0x1C08u, 0x180Bu, 0x100Du
 };
+
 
 /* log[x] = i with alpha^i = x, for x = 1 .. 2^m - 1; log[0] is unused (0). */
 #if 8192L * 16L / 8L > PTRDIFF_MAX
@@ -3140,6 +3142,7 @@ FLASH_PAGE_TABLE_ATTR static const flash_page_gf_t flash_page_log[8192] = {
     0x1498u, 0x1C5Du, 0x0DDBu, 0x1E44u, 0x14D1u, 0x151Cu, 0x0DF6u, 0x1CB7u
 };
 
+
 /* Rows of the linear map y -> y^2 + y of GF(2^13) in reduced echelon form (pivot bit, image, a preimage),
  * from Gaussian elimination in the bitmend model: a degree-2 locator is solved directly. */
 #define FLASH_PAGE_QUAD_ROWS 12u
@@ -3150,6 +3153,7 @@ FLASH_PAGE_TABLE_ATTR static const flash_page_gf_t flash_page_quad_bit[12] = {
     0x1000u, 0x0800u, 0x0400u, 0x0200u, 0x0100u, 0x0080u, 0x0040u, 0x0020u,
     0x0010u, 0x0008u, 0x0004u, 0x0002u
 };
+
 #if 12L * 16L / 8L > PTRDIFF_MAX
 #error "flash_page_quad_image exceeds PTRDIFF_MAX bytes, the largest array of this (16-bit) target: generate with [c] profile = \"tiny\" (16 table bytes)"
 #endif
@@ -3157,6 +3161,7 @@ FLASH_PAGE_TABLE_ATTR static const flash_page_gf_t flash_page_quad_image[12] = {
     0x1000u, 0x0800u, 0x0400u, 0x0201u, 0x0100u, 0x0080u, 0x0040u, 0x0020u,
     0x0010u, 0x0008u, 0x0004u, 0x0002u
 };
+
 #if 12L * 16L / 8L > PTRDIFF_MAX
 #error "flash_page_quad_pre exceeds PTRDIFF_MAX bytes, the largest array of this (16-bit) target: generate with [c] profile = \"tiny\" (16 table bytes)"
 #endif
@@ -3164,6 +3169,7 @@ FLASH_PAGE_TABLE_ATTR static const flash_page_gf_t flash_page_quad_pre[12] = {
     0x03CAu, 0x100Eu, 0x14BCu, 0x0CFCu, 0x1516u, 0x0118u, 0x038Au, 0x149Cu,
     0x1506u, 0x0382u, 0x1502u, 0x1500u
 };
+
 
 /* -- remainder of (message * x^r) mod g(x) ------------------------------------------------------------ */
 
@@ -3320,79 +3326,90 @@ static void flash_page_syndromes(const flash_page_word_t reg[FLASH_PAGE_WORDS], 
 }
 
 /* Berlekamp-Massey over S = synd[0 .. FLASH_PAGE_TWO_T), started from the erasure locator in lam (degree `erasures`,
- * lowest degree first, zero above); on return lam is the errata locator Lambda.  Returns the count of errors
+ * lowest degree first, lam[0] = 1, zero above); on return lam is the errata locator Lambda.  Returns the count of errors
  * beyond the erasures, or -1 when no word within the code's reach has these syndromes: when
- * 2 errors + erasures exceeds FLASH_PAGE_TWO_T, or deg Lambda differs from errors + erasures. */
+ * 2 errors + erasures exceeds FLASH_PAGE_TWO_T, or deg Lambda differs from errors + erasures.
+ * B, the locator before the last change of length, is kept as it was with its discrepancy: a step adds
+ * (delta / B's delta) x^shift B, shift being the steps since B was kept.  Lambda and B swap arrays when
+ * the length changes; each array is zero above its degree bound (ld, bd). */
 static int flash_page_berlekamp(const flash_page_gf_t synd[FLASH_PAGE_TWO_T], flash_page_gf_t lam[FLASH_PAGE_TWO_T + 1u],
                         unsigned erasures)
 {
-    flash_page_gf_t b[FLASH_PAGE_TWO_T + 1u];
+    flash_page_gf_t other[FLASH_PAGE_TWO_T + 1u];
+    flash_page_gf_t *cur = lam;        /* Lambda */
+    flash_page_gf_t *prev = other;     /* B */
+    flash_page_gf_t *swap;
+    flash_page_uint_t prev_inv = flash_page_inv_factor(1u);   /* 1 / B's discrepancy, prepared */
+    flash_page_gf_t delta;
     unsigned errors = 0;
-    unsigned ld = erasures;            /* lam[j] == 0 for j > ld */
-    unsigned bd = erasures;            /* b[j] == 0 for j > bd */
+    unsigned ld = erasures;            /* cur[j] == 0 for j > ld */
+    unsigned bd = erasures;            /* prev[j] == 0 for j > bd */
+    unsigned shift = 1;
     unsigned top;
+    unsigned last;
     unsigned r;
     unsigned j;
     unsigned k;                        /* loops count k up, j = top - k down: avr-gcc 5 -O3 misreads a */
                                        /* plain downward loop as out of bounds (-Warray-bounds) */
-    flash_page_uint_t fd;
-    flash_page_uint_t fi;
-    flash_page_gf_t delta;
-    flash_page_gf_t old;
+    flash_page_uint_t f;
 
     for (j = 0; j <= FLASH_PAGE_TWO_T; j++) {
-        b[j] = lam[j];
+        other[j] = lam[j];
     }
     for (r = erasures; r < FLASH_PAGE_TWO_T; r++) {
-        delta = 0u;
-        /* r odd: S_(r+1) has an even index and the discrepancy is 0, so the sum is skipped */
-        for (j = 0; j <= ld && j <= r && (r & 1u) == 0u; j++) {
-            delta = (flash_page_gf_t)(delta ^ flash_page_mul(lam[j], synd[r - j]));
+        if ((r & 1u) != 0u) {
+            shift++;                   /* r odd: S_(r+1) has an even index and the discrepancy is 0 */
+            continue;
         }
-        top = ld > bd + 1u ? ld : bd + 1u;
-        if (top > FLASH_PAGE_TWO_T) {
-            top = FLASH_PAGE_TWO_T;
+        delta = synd[r];               /* cur[0] = 1: no step changes the constant term */
+        last = ld < r ? ld : r;
+        for (j = 1; j <= last; j++) {
+            delta = (flash_page_gf_t)(delta ^ flash_page_mul(cur[j], synd[r - j]));
         }
         if (delta == 0u) {
-            /* b <- x b */
-            for (k = 0; k < top; k++) {
-                j = top - k;
-                b[j] = b[j - 1u];
-            }
-            b[0] = 0u;
-            bd = top;
-        } else if (2u * errors <= r - erasures) {
-            /* lam <- lam - delta x b and b <- lam / delta, from the old lam; the register grows */
-            fd = flash_page_factor(delta);
-            fi = flash_page_inv_factor(delta);
-            for (k = 0; k < top; k++) {
-                j = top - k;
-                old = lam[j];
-                lam[j] = (flash_page_gf_t)(old ^ flash_page_scale(b[j - 1u], fd));
-                b[j] = flash_page_scale(old, fi);
-            }
-            b[0] = flash_page_scale(lam[0], fi);
-            bd = ld;
-            ld = top;
+            shift++;
+            continue;
+        }
+        f = flash_page_factor(flash_page_scale(delta, prev_inv));
+        top = shift + bd > ld ? shift + bd : ld;
+        if (top > FLASH_PAGE_TWO_T) {
+            top = FLASH_PAGE_TWO_T;         /* a bound on the arrays; the length checks below keep top within it */
+        }
+        if (2u * errors <= r - erasures) {
+            /* the length grows: Lambda - f x^shift B goes into B's array, downwards (each read is below the
+             * writes so far), and the old Lambda becomes B */
             errors = r + 1u - errors - erasures;
             if (2u * errors + erasures > FLASH_PAGE_TWO_T) {
                 return -1;
             }
-        } else {
-            /* lam <- lam - delta x b, b <- x b */
-            fd = flash_page_factor(delta);
-            for (k = 0; k < top; k++) {
+            for (k = 0; k <= top - shift; k++) {
                 j = top - k;
-                lam[j] = (flash_page_gf_t)(lam[j] ^ flash_page_scale(b[j - 1u], fd));
-                b[j] = b[j - 1u];
+                prev[j] = (flash_page_gf_t)(cur[j] ^ flash_page_scale(prev[j - shift], f));
             }
-            b[0] = 0u;
-            bd = top;
-            ld = top;
+            for (j = 0; j < shift; j++) {
+                prev[j] = cur[j];
+            }
+            swap = cur;
+            cur = prev;
+            prev = swap;
+            bd = ld;
+            prev_inv = flash_page_inv_factor(delta);
+            shift = 1;
+        } else {
+            for (j = shift; j <= top; j++) {
+                cur[j] = (flash_page_gf_t)(cur[j] ^ flash_page_scale(prev[j - shift], f));
+            }
+            shift++;
         }
+        ld = top;
     }
-    while (ld > 0u && lam[ld] == 0u) {
+    while (ld > 0u && cur[ld] == 0u) {
         ld--;
+    }
+    if (cur != lam) {
+        for (j = 0; j <= FLASH_PAGE_TWO_T; j++) {
+            lam[j] = cur[j];
+        }
     }
     return ld == errors + erasures ? (int)errors : -1;
 }

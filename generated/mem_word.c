@@ -294,6 +294,7 @@ MEM_WORD_TABLE_ATTR static const mem_word_col_t mem_word_bytes[2048] = {
     0xFEu, 0x06u, 0x39u, 0xC1u, 0xC0u, 0x38u, 0x07u, 0xFFu
 };
 
+
 /* Syndrome -> 1 + position of the single flipped bit (data bits 0..63, then check bits),
  * 0 where no single error gives that syndrome. */
 MEM_WORD_TABLE_ATTR static const uint8_t mem_word_position[256] = {
@@ -314,6 +315,7 @@ MEM_WORD_TABLE_ATTR static const uint8_t mem_word_position[256] = {
     0x01u, 0x00u, 0x00u, 0x3Au, 0x00u, 0x00u, 0x00u, 0x00u, 0x00u, 0x00u, 0x00u, 0x00u, 0x00u, 0x00u, 0x00u, 0x00u,
     0x00u, 0x3Du, 0x00u, 0x00u, 0x00u, 0x00u, 0x00u, 0x00u, 0x40u, 0x00u, 0x00u, 0x00u, 0x00u, 0x00u, 0x00u, 0x00u
 };
+
 
 /* Check bits computed from the data. */
 static mem_word_col_t mem_word_data_checks(const uint8_t *data)

@@ -54,6 +54,7 @@ METER_READING_TABLE_ATTR static const meter_reading_word_t meter_reading_rem_tab
     0xC0991600UL, 0xBBED2300UL, 0x36717C00UL, 0x4D054900UL
 };
 
+
 /* exp[i] = alpha^i in GF(2^8) for 0 <= i < 2^m - 1 (field polynomial 0x12B). */
 METER_READING_TABLE_ATTR static const meter_reading_gf_t meter_reading_exp[255] = {
     0x01u, 0x02u, 0x04u, 0x08u, 0x10u, 0x20u, 0x40u, 0x80u,
@@ -89,6 +90,7 @@ METER_READING_TABLE_ATTR static const meter_reading_gf_t meter_reading_exp[255] 
     0x25u, 0x4Au, 0x94u, 0x03u, 0x06u, 0x0Cu, 0x18u, 0x30u,
     0x60u, 0xC0u, 0xABu, 0x7Du, 0xFAu, 0xDFu, 0x95u
 };
+
 
 /* log[x] = i with alpha^i = x, for x = 1 .. 2^m - 1; log[0] is unused (0). */
 METER_READING_TABLE_ATTR static const meter_reading_gf_t meter_reading_log[256] = {
@@ -126,18 +128,22 @@ METER_READING_TABLE_ATTR static const meter_reading_gf_t meter_reading_log[256] 
     0xCCu, 0x11u, 0xFCu, 0x40u, 0x94u, 0x56u, 0xBAu, 0xABu
 };
 
+
 /* Rows of the linear map y -> y^2 + y of GF(2^8) in reduced echelon form (pivot bit, image, a preimage),
  * from Gaussian elimination in the bitmend model: a degree-2 locator is solved directly. */
 #define METER_READING_QUAD_ROWS 7u
 METER_READING_TABLE_ATTR static const meter_reading_gf_t meter_reading_quad_bit[7] = {
     0x80u, 0x40u, 0x20u, 0x10u, 0x04u, 0x02u, 0x01u
 };
+
 METER_READING_TABLE_ATTR static const meter_reading_gf_t meter_reading_quad_image[7] = {
     0x88u, 0x48u, 0x28u, 0x10u, 0x04u, 0x02u, 0x01u
 };
+
 METER_READING_TABLE_ATTR static const meter_reading_gf_t meter_reading_quad_pre[7] = {
     0xBEu, 0x08u, 0xFCu, 0x9Au, 0x9Eu, 0x9Cu, 0xEAu
 };
+
 
 /* -- remainder of (message * x^r) mod g(x) ------------------------------------------------------------ */
 
@@ -252,79 +258,90 @@ static void meter_reading_syndromes(const meter_reading_word_t reg[METER_READING
 }
 
 /* Berlekamp-Massey over S = synd[0 .. METER_READING_TWO_T), started from the erasure locator in lam (degree `erasures`,
- * lowest degree first, zero above); on return lam is the errata locator Lambda.  Returns the count of errors
+ * lowest degree first, lam[0] = 1, zero above); on return lam is the errata locator Lambda.  Returns the count of errors
  * beyond the erasures, or -1 when no word within the code's reach has these syndromes: when
- * 2 errors + erasures exceeds METER_READING_TWO_T, or deg Lambda differs from errors + erasures. */
+ * 2 errors + erasures exceeds METER_READING_TWO_T, or deg Lambda differs from errors + erasures.
+ * B, the locator before the last change of length, is kept as it was with its discrepancy: a step adds
+ * (delta / B's delta) x^shift B, shift being the steps since B was kept.  Lambda and B swap arrays when
+ * the length changes; each array is zero above its degree bound (ld, bd). */
 static int meter_reading_berlekamp(const meter_reading_gf_t synd[METER_READING_TWO_T], meter_reading_gf_t lam[METER_READING_TWO_T + 1u],
                         unsigned erasures)
 {
-    meter_reading_gf_t b[METER_READING_TWO_T + 1u];
+    meter_reading_gf_t other[METER_READING_TWO_T + 1u];
+    meter_reading_gf_t *cur = lam;        /* Lambda */
+    meter_reading_gf_t *prev = other;     /* B */
+    meter_reading_gf_t *swap;
+    meter_reading_uint_t prev_inv = meter_reading_inv_factor(1u);   /* 1 / B's discrepancy, prepared */
+    meter_reading_gf_t delta;
     unsigned errors = 0;
-    unsigned ld = erasures;            /* lam[j] == 0 for j > ld */
-    unsigned bd = erasures;            /* b[j] == 0 for j > bd */
+    unsigned ld = erasures;            /* cur[j] == 0 for j > ld */
+    unsigned bd = erasures;            /* prev[j] == 0 for j > bd */
+    unsigned shift = 1;
     unsigned top;
+    unsigned last;
     unsigned r;
     unsigned j;
     unsigned k;                        /* loops count k up, j = top - k down: avr-gcc 5 -O3 misreads a */
                                        /* plain downward loop as out of bounds (-Warray-bounds) */
-    meter_reading_uint_t fd;
-    meter_reading_uint_t fi;
-    meter_reading_gf_t delta;
-    meter_reading_gf_t old;
+    meter_reading_uint_t f;
 
     for (j = 0; j <= METER_READING_TWO_T; j++) {
-        b[j] = lam[j];
+        other[j] = lam[j];
     }
     for (r = erasures; r < METER_READING_TWO_T; r++) {
-        delta = 0u;
-        /* r odd: S_(r+1) has an even index and the discrepancy is 0, so the sum is skipped */
-        for (j = 0; j <= ld && j <= r && (r & 1u) == 0u; j++) {
-            delta = (meter_reading_gf_t)(delta ^ meter_reading_mul(lam[j], synd[r - j]));
+        if ((r & 1u) != 0u) {
+            shift++;                   /* r odd: S_(r+1) has an even index and the discrepancy is 0 */
+            continue;
         }
-        top = ld > bd + 1u ? ld : bd + 1u;
-        if (top > METER_READING_TWO_T) {
-            top = METER_READING_TWO_T;
+        delta = synd[r];               /* cur[0] = 1: no step changes the constant term */
+        last = ld < r ? ld : r;
+        for (j = 1; j <= last; j++) {
+            delta = (meter_reading_gf_t)(delta ^ meter_reading_mul(cur[j], synd[r - j]));
         }
         if (delta == 0u) {
-            /* b <- x b */
-            for (k = 0; k < top; k++) {
-                j = top - k;
-                b[j] = b[j - 1u];
-            }
-            b[0] = 0u;
-            bd = top;
-        } else if (2u * errors <= r - erasures) {
-            /* lam <- lam - delta x b and b <- lam / delta, from the old lam; the register grows */
-            fd = meter_reading_factor(delta);
-            fi = meter_reading_inv_factor(delta);
-            for (k = 0; k < top; k++) {
-                j = top - k;
-                old = lam[j];
-                lam[j] = (meter_reading_gf_t)(old ^ meter_reading_scale(b[j - 1u], fd));
-                b[j] = meter_reading_scale(old, fi);
-            }
-            b[0] = meter_reading_scale(lam[0], fi);
-            bd = ld;
-            ld = top;
+            shift++;
+            continue;
+        }
+        f = meter_reading_factor(meter_reading_scale(delta, prev_inv));
+        top = shift + bd > ld ? shift + bd : ld;
+        if (top > METER_READING_TWO_T) {
+            top = METER_READING_TWO_T;         /* a bound on the arrays; the length checks below keep top within it */
+        }
+        if (2u * errors <= r - erasures) {
+            /* the length grows: Lambda - f x^shift B goes into B's array, downwards (each read is below the
+             * writes so far), and the old Lambda becomes B */
             errors = r + 1u - errors - erasures;
             if (2u * errors + erasures > METER_READING_TWO_T) {
                 return -1;
             }
-        } else {
-            /* lam <- lam - delta x b, b <- x b */
-            fd = meter_reading_factor(delta);
-            for (k = 0; k < top; k++) {
+            for (k = 0; k <= top - shift; k++) {
                 j = top - k;
-                lam[j] = (meter_reading_gf_t)(lam[j] ^ meter_reading_scale(b[j - 1u], fd));
-                b[j] = b[j - 1u];
+                prev[j] = (meter_reading_gf_t)(cur[j] ^ meter_reading_scale(prev[j - shift], f));
             }
-            b[0] = 0u;
-            bd = top;
-            ld = top;
+            for (j = 0; j < shift; j++) {
+                prev[j] = cur[j];
+            }
+            swap = cur;
+            cur = prev;
+            prev = swap;
+            bd = ld;
+            prev_inv = meter_reading_inv_factor(delta);
+            shift = 1;
+        } else {
+            for (j = shift; j <= top; j++) {
+                cur[j] = (meter_reading_gf_t)(cur[j] ^ meter_reading_scale(prev[j - shift], f));
+            }
+            shift++;
         }
+        ld = top;
     }
-    while (ld > 0u && lam[ld] == 0u) {
+    while (ld > 0u && cur[ld] == 0u) {
         ld--;
+    }
+    if (cur != lam) {
+        for (j = 0; j <= METER_READING_TWO_T; j++) {
+            lam[j] = cur[j];
+        }
     }
     return ld == errors + erasures ? (int)errors : -1;
 }

@@ -104,6 +104,7 @@ SOIL_PROBE_TABLE_ATTR static const soil_probe_reg_t soil_probe_table[512] = {
     0x7C08u, 0x65D0u, 0x4FB8u, 0x5660u, 0x1B68u, 0x02B0u, 0x28D8u, 0x3100u,
     0xB2C8u, 0xAB10u, 0x8178u, 0x98A0u, 0xD5A8u, 0xCC70u, 0xE618u, 0xFFC0u
 };
+
 #define SOIL_PROBE_ENTRY(i) SOIL_PROBE_TABLE_READ16(soil_probe_table, i)
 
 soil_probe_crc_value_t soil_probe_crc_start(void)

@@ -31,8 +31,8 @@ extern "C" {
  *
  * Profile fast: encoder with one product table per generator coefficient,
  * decoder in the log domain (exp table of 510 entries, log table of 256).
- * Constant tables: 15102 bytes.  Worst-case stack: 1608 bytes
- * (32-symbol local arrays plus at most 8 call levels).
+ * Constant tables: 13821 bytes.  Worst-case stack: 1381 bytes
+ * (32-symbol local arrays plus at most 9 call levels).
  */
 #define TELEMETRY_DOWNLINK_N                 255u         /* codeword length of the largest block, symbols */
 #define TELEMETRY_DOWNLINK_K                 223u         /* data length of the largest block, symbols */
@@ -40,8 +40,8 @@ extern "C" {
 #define TELEMETRY_DOWNLINK_DATA_BYTES        892u         /* largest data block, bytes */
 #define TELEMETRY_DOWNLINK_PARITY_BYTES      128u         /* check bytes for the largest block */
 #define TELEMETRY_DOWNLINK_CORRECTABLE       16           /* = _T, as an int like _decode's return */
-#define TELEMETRY_DOWNLINK_TABLE_BYTES       15102u       /* constant table bytes in the .c */
-#define TELEMETRY_DOWNLINK_STACK_BYTES       1608u        /* worst-case stack bound, bytes */
+#define TELEMETRY_DOWNLINK_TABLE_BYTES       13821u       /* constant table bytes in the .c */
+#define TELEMETRY_DOWNLINK_STACK_BYTES       1381u        /* worst-case stack bound, bytes */
 #define TELEMETRY_DOWNLINK_ERR_UNCORRECTABLE (-1)         /* errors found that the code cannot correct */
 #define TELEMETRY_DOWNLINK_ERR_LENGTH        (-2)         /* a data_len the code does not take */
 #define TELEMETRY_DOWNLINK_ERR_ARG           (-3)         /* a NULL buffer or an invalid argument */
