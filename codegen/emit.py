@@ -11,6 +11,7 @@ from __future__ import annotations
 import contextlib
 import fcntl
 import functools
+import math
 import os
 import re
 import signal
@@ -334,7 +335,7 @@ def depfile_text(outputs: list[Output]) -> str:
     return "\n".join(lines) + "\n"
 
 
-_TABLE_DECL = re.compile(r"static const (\w+) (\w+)\[(\d+)\]")
+_TABLE_DECL = re.compile(r"static const (\w+) (\w+)((?:\[\d+\])+)")
 _TYPEDEF = re.compile(r"typedef (\w+) (\w+);")
 
 
@@ -348,7 +349,8 @@ def tables(files: dict[str, str]) -> dict[str, int]:
             ctype = typedefs[ctype]
         return int(re.fullmatch(r"uint(\d+)_t", ctype).group(1)) // 8
 
-    return {name: int(count) * size(ctype) for ctype, name, count in _TABLE_DECL.findall(text)}
+    return {name: math.prod(int(n) for n in re.findall(r"\d+", dims)) * size(ctype)
+            for ctype, name, dims in _TABLE_DECL.findall(text)}
 
 
 def table_notes(spec: Spec, outputs: list[Output]) -> tuple[str, str | None]:

@@ -1531,10 +1531,9 @@ static void archive_block_forney(const uint8_t synd[ARCHIVE_BLOCK_NROOTS], const
             acc = (uint8_t)(archive_block_scale(acc, fx) ^ om[deg - 1u - j]);
         }
         odd = 0u;                              /* X^-1 * (the odd coefficients by Horner in X^-2) */
-        for (i = deg - 1u + (deg & 1u); i > 1u; i -= 2u) {     /* from the highest odd degree */
-            odd = (uint8_t)(archive_block_scale(odd, fx2) ^ lam[i]);
+        for (i = (deg + 1u) / 2u; i > 0u; i--) {
+            odd = (uint8_t)(archive_block_scale(odd, fx2) ^ lam[2u * i - 1u]);
         }
-        odd = (uint8_t)(archive_block_scale(odd, fx2) ^ lam[1]);
         odd = archive_block_scale(odd, fx);
         acc = archive_block_scale(acc, archive_block_factor(archive_block_beta_pow(back * ARCHIVE_BLOCK_FIRST_ROOT)));
         value[f] = archive_block_scale(acc, archive_block_inv_factor(odd));

@@ -445,10 +445,9 @@ static void beacon_telemetry_forney(const uint8_t synd[BEACON_TELEMETRY_NROOTS],
             acc = (uint8_t)(beacon_telemetry_scale(acc, fx) ^ om[deg - 1u - j]);
         }
         odd = 0u;                              /* X^-1 * (the odd coefficients by Horner in X^-2) */
-        for (i = deg - 1u + (deg & 1u); i > 1u; i -= 2u) {     /* from the highest odd degree */
-            odd = (uint8_t)(beacon_telemetry_scale(odd, fx2) ^ lam[i]);
+        for (i = (deg + 1u) / 2u; i > 0u; i--) {
+            odd = (uint8_t)(beacon_telemetry_scale(odd, fx2) ^ lam[2u * i - 1u]);
         }
-        odd = (uint8_t)(beacon_telemetry_scale(odd, fx2) ^ lam[1]);
         odd = beacon_telemetry_scale(odd, fx);
         acc = beacon_telemetry_scale(acc, beacon_telemetry_factor(beacon_telemetry_beta_pow(back * BEACON_TELEMETRY_FIRST_ROOT)));
         value[f] = beacon_telemetry_scale(acc, beacon_telemetry_inv_factor(odd));

@@ -1539,10 +1539,9 @@ static void telemetry_downlink_forney(const uint8_t synd[TELEMETRY_DOWNLINK_NROO
             acc = (uint8_t)(telemetry_downlink_scale(acc, fx) ^ om[deg - 1u - j]);
         }
         odd = 0u;                              /* X^-1 * (the odd coefficients by Horner in X^-2) */
-        for (i = deg - 1u + (deg & 1u); i > 1u; i -= 2u) {     /* from the highest odd degree */
-            odd = (uint8_t)(telemetry_downlink_scale(odd, fx2) ^ lam[i]);
+        for (i = (deg + 1u) / 2u; i > 0u; i--) {
+            odd = (uint8_t)(telemetry_downlink_scale(odd, fx2) ^ lam[2u * i - 1u]);
         }
-        odd = (uint8_t)(telemetry_downlink_scale(odd, fx2) ^ lam[1]);
         odd = telemetry_downlink_scale(odd, fx);
         acc = telemetry_downlink_scale(acc, telemetry_downlink_factor(telemetry_downlink_beta_pow(back * TELEMETRY_DOWNLINK_FIRST_ROOT)));
         value[f] = telemetry_downlink_scale(acc, telemetry_downlink_inv_factor(odd));
