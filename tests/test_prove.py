@@ -127,26 +127,18 @@ def test_one_certificate_per_profile(specs, address, tmp_path):
         assert rows(c) == {1: (7, 7, 0, 0, 0), 2: (21, 0, 0, 21, 0)}
 
 
-def test_secded_72_64(specs, address):
+@pytest.mark.parametrize("key, n", [("secded", 72), ("secded128", 137)])
+def test_secded_counts(specs, address, key, n):
     # SECDED: every double error has an even non-zero syndrome and is detected (Hsiao, 1970); triple
     # errors split by whether their odd syndrome is a column of H (syndromes from the model's H, which
-    # test_hamming.py holds to Hsiao's construction).
-    model = build(specmod.load(specs["secded"]))
-    columns = np.array([int("".join(map(str, model.H[:, j])), 2) for j in range(72)])
+    # test_hamming.py holds to Hsiao's construction).  (72,64)'s 9-byte frames take the driver's two-word
+    # image of the frame, (137,128)'s 18-byte frames its other path (flips).
+    model = build(specmod.load(specs[key]))
+    columns = np.array([int("".join(map(str, model.H[:, j])), 2) for j in range(n)])
     mis, det = syndrome_split(columns, 3, 1)
-    cert = certify(specs["secded"], address, max_weight=3)
-    assert rows(cert) == {1: (72, 72, 0, 0, 0), 2: (2556, 0, 2556, 0, 0), 3: (59640, 0, det, mis, 0)}
-    assert mis > 0 and det > 0
-
-
-def test_secded_137_128(specs, address):
-    # the same statements for (137,128), whose 18-byte frames take the driver's other path (flips, not a
-    # two-word image of the frame)
-    model = build(specmod.load(specs["secded128"]))
-    columns = np.array([int("".join(map(str, model.H[:, j])), 2) for j in range(137)])
-    mis, det = syndrome_split(columns, 3, 1)
-    cert = certify(specs["secded128"], address, max_weight=3)
-    assert rows(cert) == {1: (137, 137, 0, 0, 0), 2: (9316, 0, 9316, 0, 0), 3: (419220, 0, det, mis, 0)}
+    cert = certify(specs[key], address, max_weight=3)
+    pairs, triples = math.comb(n, 2), math.comb(n, 3)
+    assert rows(cert) == {1: (n, n, 0, 0, 0), 2: (pairs, 0, pairs, 0, 0), 3: (triples, 0, det, mis, 0)}
     assert mis > 0 and det > 0
 
 
