@@ -1282,9 +1282,6 @@ static int archive_block_berlekamp(const archive_block_gf_t synd[ARCHIVE_BLOCK_N
     return ld == errors + erasures ? (int)errors : -1;
 }
 
-/* Chien search over the transmitted positions only: power p = 0 .. total-1 (p = 0 is the last parity
- * symbol), x = beta^-p.  Records each root's p in where[] and returns their count; stops once `deg` roots
- * are found. */
 /* A root found `back` positions before x: divides (1 - X y), X = the root's inverse, out of Q (degree
  * left >= 1, held as the terms val[i] = Q_i x^i).  The quotient's terms are q_i = val_i + X x q_(i-1),
  * X x = beta^-back.  Returns its degree. */
@@ -1302,7 +1299,10 @@ static unsigned archive_block_deflate(uint8_t val[ARCHIVE_BLOCK_NROOTS + 1u], un
     return left - 1u;
 }
 
-/* The positions go ARCHIVE_BLOCK_CHIEN_BLOCK at a time.  Each term Q_i x^i is kept as a value and stepped to the
+/* Chien search over the transmitted positions only: power p = 0 .. total-1 (p = 0 is the last parity
+ * symbol), x = beta^-p.  Records each root's p in where[] and returns their count; stops once `deg` roots
+ * are found.
+ * The positions go ARCHIVE_BLOCK_CHIEN_BLOCK at a time.  Each term Q_i x^i is kept as a value and stepped to the
  * next position by a product with beta^-i: a row of the multiplier table up to degree ARCHIVE_BLOCK_CHIEN_ROWS,
  * logs above.  Q is Lambda with the roots found so far divided out (deflate), so the
  * terms get fewer as the search goes. */

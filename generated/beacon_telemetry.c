@@ -331,9 +331,6 @@ static int beacon_telemetry_berlekamp(const beacon_telemetry_gf_t synd[BEACON_TE
     return ld == errors + erasures ? (int)errors : -1;
 }
 
-/* Chien search over the transmitted positions only: power p = 0 .. total-1 (p = 0 is the last parity
- * symbol), x = beta^-p.  Records each root's p in where[] and returns their count; stops once `deg` roots
- * are found. */
 /* A root found `back` positions before x: divides (1 - X y), X = the root's inverse, out of Q (degree
  * left >= 1, held as the terms val[i] = Q_i x^i).  The quotient's terms are q_i = val_i + X x q_(i-1),
  * X x = beta^-back.  Returns its degree. */
@@ -351,7 +348,10 @@ static unsigned beacon_telemetry_deflate(uint8_t val[BEACON_TELEMETRY_NROOTS + 1
     return left - 1u;
 }
 
-/* The positions go BEACON_TELEMETRY_CHIEN_BLOCK at a time.  Each term Q_i x^i is kept as a value and stepped to the
+/* Chien search over the transmitted positions only: power p = 0 .. total-1 (p = 0 is the last parity
+ * symbol), x = beta^-p.  Records each root's p in where[] and returns their count; stops once `deg` roots
+ * are found.
+ * The positions go BEACON_TELEMETRY_CHIEN_BLOCK at a time.  Each term Q_i x^i is kept as a value and stepped to the
  * next position by a product with beta^-i: by logs.  Q is Lambda with the roots found so far divided out (deflate), so the
  * terms get fewer as the search goes. */
 static unsigned beacon_telemetry_chien(const uint8_t lam[BEACON_TELEMETRY_NROOTS + 1u], unsigned deg, unsigned total,

@@ -1290,9 +1290,6 @@ static int telemetry_downlink_berlekamp(const telemetry_downlink_gf_t synd[TELEM
     return ld == errors + erasures ? (int)errors : -1;
 }
 
-/* Chien search over the transmitted positions only: power p = 0 .. total-1 (p = 0 is the last parity
- * symbol), x = beta^-p.  Records each root's p in where[] and returns their count; stops once `deg` roots
- * are found. */
 /* A root found `back` positions before x: divides (1 - X y), X = the root's inverse, out of Q (degree
  * left >= 1, held as the terms val[i] = Q_i x^i).  The quotient's terms are q_i = val_i + X x q_(i-1),
  * X x = beta^-back.  Returns its degree. */
@@ -1310,7 +1307,10 @@ static unsigned telemetry_downlink_deflate(uint8_t val[TELEMETRY_DOWNLINK_NROOTS
     return left - 1u;
 }
 
-/* The positions go TELEMETRY_DOWNLINK_CHIEN_BLOCK at a time.  Each term Q_i x^i is kept as a value and stepped to the
+/* Chien search over the transmitted positions only: power p = 0 .. total-1 (p = 0 is the last parity
+ * symbol), x = beta^-p.  Records each root's p in where[] and returns their count; stops once `deg` roots
+ * are found.
+ * The positions go TELEMETRY_DOWNLINK_CHIEN_BLOCK at a time.  Each term Q_i x^i is kept as a value and stepped to the
  * next position by a product with beta^-i: a row of the multiplier table up to degree TELEMETRY_DOWNLINK_CHIEN_ROWS,
  * logs above.  Q is Lambda with the roots found so far divided out (deflate), so the
  * terms get fewer as the search goes. */
